@@ -1,0 +1,199 @@
+//! `radnorm born`: Born cross-sections at one energy or on a grid.
+
+use anyhow::{Result, bail};
+use clap::{Args, ValueEnum};
+use rayon::prelude::*;
+
+use super::output::{OutputArgs, Report, Row, emit};
+use super::{flag_error, parse_energy_grid};
+use radnorm::process::{
+    Angular, Bhabha, ConstantR, CosRange, CrossSection, Diphoton, FermionPair, Hadrons, RRatio,
+    WidthScheme, ZExchange,
+};
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum ProcessName {
+    /// e⁺e⁻ → μ⁺μ⁻
+    Mumu,
+    /// e⁺e⁻ → τ⁺τ⁻
+    Tautau,
+    /// Bhabha e⁺e⁻ → e⁺e⁻ (needs a polar-angle range)
+    Ee,
+    /// e⁺e⁻ → γγ (needs a polar-angle range)
+    Gg,
+    /// e⁺e⁻ → hadrons through an R model
+    Hadrons,
+}
+
+impl ProcessName {
+    pub fn key(self) -> &'static str {
+        match self {
+            ProcessName::Mumu => "mumu",
+            ProcessName::Tautau => "tautau",
+            ProcessName::Ee => "ee",
+            ProcessName::Gg => "gg",
+            ProcessName::Hadrons => "hadrons",
+        }
+    }
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum ZWidth {
+    /// s·Γ_Z/M_Z in the propagator (the convention of the PDG M_Z, Γ_Z)
+    Running,
+    /// constant width, with M_Z and Γ_Z transformed to that convention
+    Fixed,
+}
+
+#[derive(Debug, Args)]
+#[command(after_help = "Example:\n  radnorm born --process mumu --sqrt-s 2:12:6 --z --format csv")]
+pub struct BornArgs {
+    /// The process.
+    #[arg(long, value_enum)]
+    process: ProcessName,
+    /// Centre-of-mass energy in GeV: a value or a grid start:stop:count (ends included).
+    #[arg(long, value_name = "GEV")]
+    sqrt_s: String,
+    /// Both final particles above this polar angle (degrees). Required for ee and gg.
+    #[arg(long, value_name = "DEG")]
+    theta_min_deg: Option<f64>,
+    /// Both final particles below this polar angle (degrees).
+    #[arg(long, value_name = "DEG")]
+    theta_max_deg: Option<f64>,
+    /// Include Z exchange (improved Born: G_mu κ, sin²θ_eff; A_FB is reported).
+    #[arg(long)]
+    z: bool,
+    /// Z width convention in the propagator.
+    #[arg(long, value_enum, default_value_t = ZWidth::Running)]
+    z_width: ZWidth,
+    /// Multiply by the Coulomb (Sommerfeld–Sakharov) threshold factor (fermion pairs).
+    #[arg(long)]
+    coulomb: bool,
+    /// Also report dσ/dcosθ of the first final particle at this cosθ.
+    #[arg(long, value_name = "C", allow_negative_numbers = true)]
+    cos_theta: Option<f64>,
+    /// A constant R ratio for hadrons (σ = σ_pt·R).
+    #[arg(long, value_name = "R")]
+    r_const: Option<f64>,
+    #[command(flatten)]
+    output: OutputArgs,
+}
+
+pub fn run(args: BornArgs) -> Result<()> {
+    let grid = parse_energy_grid("--sqrt-s", &args.sqrt_s)?;
+    if let Some(c) = args.cos_theta
+        && !(-1.0..=1.0).contains(&c)
+    {
+        bail!("--cos-theta {c}: not allowed; allowed: -1 ≤ cos-theta ≤ 1");
+    }
+    let range = match (args.theta_min_deg, args.theta_max_deg) {
+        (None, None) => match args.process {
+            ProcessName::Ee | ProcessName::Gg => bail!(
+                "--process {}: needs --theta-min-deg and --theta-max-deg (σ diverges along the beam)",
+                args.process.key()
+            ),
+            _ => CosRange::FULL,
+        },
+        (lo, hi) => CosRange::both_inside_deg(lo.unwrap_or(1e-9), hi.unwrap_or(180.0 - 1e-9))
+            .map_err(flag_error)?,
+    };
+    let z = args.z.then(|| {
+        ZExchange::standard(match args.z_width {
+            ZWidth::Running => WidthScheme::Running,
+            ZWidth::Fixed => WidthScheme::Fixed,
+        })
+    });
+    let mut notes = vec![
+        format!(
+            "process {}, Born level, alpha(0) in the photon terms",
+            args.process.key()
+        ),
+        format!(
+            "cos_theta of the first final particle in [{:.9}, {:.9}]",
+            range.lo(),
+            range.hi()
+        ),
+        format!("constants: {}", radnorm::constants::EDITIONS),
+    ];
+    if let Some(z) = &z {
+        notes.push(z.describe());
+    }
+    if args.coulomb {
+        notes.push("Coulomb (Sommerfeld-Sakharov) threshold factor on".into());
+    }
+
+    let fermion = |mut f: FermionPair| {
+        if let Some(z) = z {
+            f = f.with_z(z);
+        }
+        f.with_coulomb(args.coulomb).with_range(range)
+    };
+    let process: Box<dyn AngularProcess> = match args.process {
+        ProcessName::Mumu => Box::new(fermion(FermionPair::muon())),
+        ProcessName::Tautau => Box::new(fermion(FermionPair::tau())),
+        ProcessName::Ee => {
+            let mut b = Bhabha::new(range);
+            if let Some(z) = z {
+                b = b.with_z(z);
+            }
+            Box::new(b)
+        }
+        ProcessName::Gg => Box::new(Diphoton::new(range)),
+        ProcessName::Hadrons => {
+            let Some(r) = args.r_const else {
+                bail!("--process hadrons: give the R ratio with --r-const R (e.g. 2.2)");
+            };
+            if !(r >= 0.0 && r.is_finite()) {
+                bail!("--r-const {r}: not allowed; allowed: a finite R ≥ 0");
+            }
+            notes.push(format!("R model: {}", ConstantR(r).describe()));
+            Box::new(Hadrons::new(ConstantR(r)))
+        }
+    };
+    if z.is_some() && matches!(args.process, ProcessName::Gg | ProcessName::Hadrons) {
+        bail!("--z: applies to mumu, tautau and ee only");
+    }
+    let afb = args.z && matches!(args.process, ProcessName::Mumu | ProcessName::Tautau);
+
+    let rows: Vec<Row> = grid
+        .points()
+        .par_iter()
+        .map(|&sqrt_s| {
+            let s = sqrt_s * sqrt_s;
+            let mut row = Row::new()
+                .text("process", args.process.key())
+                .num("sqrt_s_gev", sqrt_s)
+                .num("sigma_nb", process.sigma_nb(s));
+            if afb {
+                row = row.num("afb", process.afb(s));
+            }
+            if let Some(c) = args.cos_theta {
+                row = row
+                    .num("cos_theta", c)
+                    .num("dsigma_dcos_nb", process.dsigma_dcos_nb(s, c));
+            }
+            row
+        })
+        .collect();
+    let mut report = Report::new(rows);
+    for n in notes {
+        report = report.note(n);
+    }
+    emit(report, &args.output, &[], grid.is_single())
+}
+
+/// What `born` needs of a process: σ, dσ/dcosθ, and A_FB where defined.
+trait AngularProcess: Angular + Send {
+    fn afb(&self, _s: f64) -> f64 {
+        0.0
+    }
+}
+
+impl AngularProcess for FermionPair {
+    fn afb(&self, s: f64) -> f64 {
+        FermionPair::afb(self, s)
+    }
+}
+impl AngularProcess for Bhabha {}
+impl AngularProcess for Diphoton {}
+impl AngularProcess for Hadrons<ConstantR> {}

@@ -1,0 +1,54 @@
+//! The command-line interface: argument parsing, one file per command, rendering.
+//!
+//! Only this layer uses clap and anyhow; it does no physics, only calls the library.
+
+mod born;
+pub mod output;
+
+use anyhow::{Context, Result, anyhow};
+use clap::{Parser, Subcommand};
+
+use radnorm::ParamError;
+use radnorm::numeric::Grid;
+
+/// radnorm: Born cross-sections, running α, ISR corrections and luminosity for e⁺e⁻ colliders.
+#[derive(Debug, Parser)]
+#[command(name = "radnorm", version, about, long_about = None)]
+pub struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Debug, Subcommand)]
+enum Command {
+    /// Born cross-section of a process at one energy or on a grid.
+    Born(born::BornArgs),
+}
+
+/// Parse the arguments and run the command.
+pub fn run(cli: Cli) -> Result<()> {
+    match cli.command {
+        Command::Born(args) => born::run(args),
+    }
+}
+
+/// A ParamError in the words of the command line: the flag, the value, the allowed range.
+pub fn flag_error(e: ParamError) -> anyhow::Error {
+    anyhow!(
+        "--{} {}: not allowed; allowed: {}",
+        e.name.replace('_', "-"),
+        e.value,
+        e.allowed
+    )
+}
+
+/// Parse an energy grid (`3.0` or `start:stop:count`) for `flag`; every point > 0.
+pub fn parse_energy_grid(flag: &str, text: &str) -> Result<Grid> {
+    let grid = Grid::parse(text).with_context(|| format!("{flag} {text}"))?;
+    if let Some(bad) = grid.points().iter().find(|&&e| e <= 0.0) {
+        return Err(anyhow!(
+            "{flag} {text}: {bad} is not allowed; allowed: energies > 0 GeV"
+        ));
+    }
+    Ok(grid)
+}

@@ -1,0 +1,384 @@
+//! Rendering results for people (text) and scripts (JSON, CSV), in one place.
+//!
+//! The output contract (design notes): one point → one JSON object, a grid → an array of
+//! them, a result with rows and a summary → `{"rows": [...], "summary": {...}}`. Keys are
+//! snake_case with the unit last; CSV headers are the same keys (nested objects flattened
+//! as `parent.child`). Units are converted here and only here (`--units pb`), and a
+//! non-finite number is refused here rather than written.
+
+use anyhow::{Result, bail};
+use clap::ValueEnum;
+use serde_json::{Map, Value};
+use std::fmt::Write as _;
+use std::path::{Path, PathBuf};
+
+/// Output format.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum Format {
+    /// An aligned table for people.
+    Text,
+    /// One JSON document.
+    Json,
+    /// CSV with a commented provenance header.
+    Csv,
+}
+
+/// Cross-section (and luminosity) units of the output.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum Units {
+    Nb,
+    Pb,
+}
+
+/// The output flags every command shares.
+#[derive(Debug, Clone, clap::Args)]
+pub struct OutputArgs {
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Text)]
+    pub format: Format,
+    /// Write to this file (atomically) instead of standard output.
+    #[arg(long, value_name = "PATH")]
+    pub out: Option<PathBuf>,
+    /// Cross-section units: nb (default) or pb; luminosity follows (nb⁻¹ or pb⁻¹).
+    #[arg(long, value_enum, default_value_t = Units::Nb)]
+    pub units: Units,
+}
+
+/// One output point: an ordered map of keys to values.
+#[derive(Debug, Clone, Default)]
+pub struct Row(pub Map<String, Value>);
+
+impl Row {
+    pub fn new() -> Self {
+        Row(Map::new())
+    }
+
+    pub fn num(mut self, key: &str, v: f64) -> Self {
+        self.0.insert(key.to_string(), num_value(v));
+        self
+    }
+
+    pub fn text(mut self, key: &str, v: impl Into<String>) -> Self {
+        self.0.insert(key.to_string(), Value::String(v.into()));
+        self
+    }
+}
+
+/// A number as JSON; a non-finite one becomes `null` here and is refused in [`render`].
+fn num_value(v: f64) -> Value {
+    serde_json::Number::from_f64(v).map_or(Value::Null, Value::Number)
+}
+
+/// What a command produced: its points, an optional summary, and how it was made.
+#[derive(Debug, Clone, Default)]
+pub struct Report {
+    pub rows: Vec<Row>,
+    pub summary: Option<Row>,
+    /// Provenance lines: program version, schemes, constants' editions, inputs.
+    pub provenance: Vec<String>,
+}
+
+impl Report {
+    pub fn new(rows: Vec<Row>) -> Self {
+        Report {
+            rows,
+            summary: None,
+            provenance: vec![format!("radnorm {}", env!("CARGO_PKG_VERSION"))],
+        }
+    }
+
+    pub fn note(mut self, line: impl Into<String>) -> Self {
+        self.provenance.push(line.into());
+        self
+    }
+}
+
+/// Render `report` and write it to `--out` (atomically, never over an input) or stdout.
+pub fn emit(report: Report, args: &OutputArgs, inputs: &[&Path], single: bool) -> Result<()> {
+    let text = render(report, args.format, args.units, single)?;
+    match &args.out {
+        Some(path) => radnorm::io::write_atomic(path, text.as_bytes(), inputs)?,
+        None => {
+            use std::io::Write;
+            let mut out = std::io::stdout().lock();
+            // A closed pipe (`| head`) is not an error worth a message.
+            if let Err(e) = out.write_all(text.as_bytes())
+                && e.kind() != std::io::ErrorKind::BrokenPipe
+            {
+                return Err(e.into());
+            }
+        }
+    }
+    Ok(())
+}
+
+/// Render to a string. `single` picks the one-object JSON shape for a one-point result.
+pub fn render(mut report: Report, format: Format, units: Units, single: bool) -> Result<String> {
+    for row in report.rows.iter_mut().chain(report.summary.iter_mut()) {
+        check_finite(&row.0, "")?;
+        if units == Units::Pb {
+            row.0 = to_pb(std::mem::take(&mut row.0));
+        }
+    }
+    match format {
+        Format::Json => Ok(render_json(&report, single)),
+        Format::Csv => Ok(render_csv(&report)),
+        Format::Text => Ok(render_text(&report)),
+    }
+}
+
+fn check_finite(map: &Map<String, Value>, prefix: &str) -> Result<()> {
+    for (k, v) in map {
+        match v {
+            Value::Null => bail!(
+                "internal error: the value of {prefix}{k} is not a finite number; nothing was written"
+            ),
+            Value::Object(inner) => check_finite(inner, &format!("{prefix}{k}."))?,
+            _ => {}
+        }
+    }
+    Ok(())
+}
+
+/// Rename `*_nb` keys to `*_pb` (×1000) and `*_nb_inv` to `*_pb_inv` (÷1000), recursively.
+fn to_pb(map: Map<String, Value>) -> Map<String, Value> {
+    map.into_iter()
+        .map(|(k, v)| {
+            let scale = |v: Value, f: f64| match v.as_f64() {
+                Some(x) => num_value(x * f),
+                None => v,
+            };
+            if let Some(stem) = k.strip_suffix("_nb_inv") {
+                (format!("{stem}_pb_inv"), scale(v, 1e-3))
+            } else if let Some(stem) = k.strip_suffix("_nb") {
+                (format!("{stem}_pb"), scale(v, 1e3))
+            } else if let Value::Object(inner) = v {
+                (k, Value::Object(to_pb(inner)))
+            } else {
+                (k, v)
+            }
+        })
+        .collect()
+}
+
+fn render_json(report: &Report, single: bool) -> String {
+    let value = match (&report.summary, single, report.rows.as_slice()) {
+        (Some(summary), _, rows) => {
+            let mut m = Map::new();
+            m.insert(
+                "rows".into(),
+                Value::Array(rows.iter().map(|r| Value::Object(r.0.clone())).collect()),
+            );
+            m.insert("summary".into(), Value::Object(summary.0.clone()));
+            Value::Object(m)
+        }
+        (None, true, [one]) => Value::Object(one.0.clone()),
+        (None, _, rows) => Value::Array(rows.iter().map(|r| Value::Object(r.0.clone())).collect()),
+    };
+    let mut s = serde_json::to_string_pretty(&value).unwrap_or_default();
+    s.push('\n');
+    s
+}
+
+/// Flatten nested objects into `parent.child` keys, in order.
+fn flatten(map: &Map<String, Value>, prefix: &str, out: &mut Vec<(String, Value)>) {
+    for (k, v) in map {
+        let key = format!("{prefix}{k}");
+        match v {
+            Value::Object(inner) => flatten(inner, &format!("{key}."), out),
+            other => out.push((key, other.clone())),
+        }
+    }
+}
+
+fn cell(v: &Value) -> String {
+    match v {
+        Value::String(s) => s.clone(),
+        Value::Number(n) => n.to_string(),
+        other => other.to_string(),
+    }
+}
+
+fn render_csv(report: &Report) -> String {
+    let mut s = String::new();
+    for line in &report.provenance {
+        let _ = writeln!(s, "# {line}");
+    }
+    let mut write_table = |rows: &[&Row]| {
+        let mut header: Vec<String> = Vec::new();
+        let mut lines = Vec::with_capacity(rows.len());
+        for row in rows {
+            let mut flat = Vec::new();
+            flatten(&row.0, "", &mut flat);
+            if header.is_empty() {
+                header = flat.iter().map(|(k, _)| k.clone()).collect();
+            }
+            lines.push(
+                flat.iter()
+                    .map(|(_, v)| csv_field(&cell(v)))
+                    .collect::<Vec<_>>()
+                    .join(","),
+            );
+        }
+        let _ = writeln!(s, "{}", header.join(","));
+        for l in lines {
+            let _ = writeln!(s, "{l}");
+        }
+    };
+    write_table(&report.rows.iter().collect::<Vec<_>>());
+    if let Some(summary) = &report.summary {
+        s.push_str("# summary\n");
+        let mut flat = Vec::new();
+        flatten(&summary.0, "", &mut flat);
+        for (k, v) in flat {
+            let _ = writeln!(s, "# {k},{}", cell(&v));
+        }
+    }
+    s
+}
+
+fn csv_field(s: &str) -> String {
+    if s.contains([',', '"', '\n']) {
+        format!("\"{}\"", s.replace('"', "\"\""))
+    } else {
+        s.to_string()
+    }
+}
+
+/// "sigma_dressed_nb" → "sigma_dressed [nb]".
+fn header_with_unit(key: &str) -> String {
+    const UNITS: [(&str, &str); 10] = [
+        ("_nb_inv", "nb⁻¹"),
+        ("_pb_inv", "pb⁻¹"),
+        ("_gev2", "GeV²"),
+        ("_gev", "GeV"),
+        ("_mev", "MeV"),
+        ("_nb", "nb"),
+        ("_pb", "pb"),
+        ("_deg", "deg"),
+        ("_mrad", "mrad"),
+        ("_percent", "%"),
+    ];
+    for (suffix, unit) in UNITS {
+        if let Some(stem) = key.strip_suffix(suffix) {
+            return format!("{stem} [{unit}]");
+        }
+    }
+    key.to_string()
+}
+
+fn text_cell(v: &Value) -> String {
+    match v {
+        Value::Number(n) if n.is_f64() => {
+            let x = n.as_f64().unwrap_or(0.0);
+            if x == 0.0 {
+                "0".into()
+            } else if (1e-3..1e6).contains(&x.abs()) {
+                let digits = (6 - x.abs().log10().floor() as i32).clamp(0, 9) as usize;
+                format!("{x:.digits$}")
+            } else {
+                format!("{x:.6e}")
+            }
+        }
+        other => cell(other),
+    }
+}
+
+fn render_text(report: &Report) -> String {
+    let mut s = String::new();
+    let columns = |row: &Row| {
+        let mut flat = Vec::new();
+        flatten(&row.0, "", &mut flat);
+        flat
+    };
+    if report.rows.len() == 1 {
+        // One point: a key/value list reads better than a one-line table.
+        let flat = columns(&report.rows[0]);
+        let width = flat
+            .iter()
+            .map(|(k, _)| header_with_unit(k).chars().count())
+            .max()
+            .unwrap_or(0);
+        for (k, v) in &flat {
+            let h = header_with_unit(k);
+            let pad = width - h.chars().count();
+            let _ = writeln!(s, "{h}{}  {}", " ".repeat(pad), text_cell(v));
+        }
+    } else if !report.rows.is_empty() {
+        let first = columns(&report.rows[0]);
+        let headers: Vec<String> = first.iter().map(|(k, _)| header_with_unit(k)).collect();
+        let body: Vec<Vec<String>> = report
+            .rows
+            .iter()
+            .map(|r| columns(r).iter().map(|(_, v)| text_cell(v)).collect())
+            .collect();
+        let widths: Vec<usize> = (0..headers.len())
+            .map(|i| {
+                body.iter()
+                    .filter_map(|r| r.get(i))
+                    .map(|c| c.chars().count())
+                    .chain([headers[i].chars().count()])
+                    .max()
+                    .unwrap_or(0)
+            })
+            .collect();
+        let line = |cells: &[String]| {
+            cells
+                .iter()
+                .zip(&widths)
+                .map(|(c, w)| format!("{}{c}", " ".repeat(w - c.chars().count())))
+                .collect::<Vec<_>>()
+                .join("  ")
+        };
+        let _ = writeln!(s, "{}", line(&headers));
+        for r in &body {
+            let _ = writeln!(s, "{}", line(r));
+        }
+    }
+    if let Some(summary) = &report.summary {
+        s.push_str("\nsummary\n");
+        for (k, v) in columns(summary) {
+            let _ = writeln!(s, "  {}  {}", header_with_unit(&k), text_cell(&v));
+        }
+    }
+    for line in report.provenance.iter().skip(1) {
+        let _ = writeln!(s, "# {line}");
+    }
+    s
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn json_shapes_follow_the_contract() {
+        let r = Report::new(vec![
+            Row::new().num("sqrt_s_gev", 3.0).num("sigma_nb", 9.65),
+        ]);
+        let one = render(r.clone(), Format::Json, Units::Nb, true).unwrap();
+        assert!(one.trim_start().starts_with('{'));
+        let many = render(r.clone(), Format::Json, Units::Nb, false).unwrap();
+        assert!(many.trim_start().starts_with('['));
+        let pb = render(r, Format::Json, Units::Pb, true).unwrap();
+        let v: Value = serde_json::from_str(&pb).unwrap();
+        assert_eq!(v["sigma_pb"].as_f64().unwrap(), 9650.0);
+    }
+
+    #[test]
+    fn refuses_non_finite_numbers() {
+        let r = Report::new(vec![Row::new().num("sigma_nb", f64::NAN)]);
+        assert!(render(r, Format::Csv, Units::Nb, true).is_err());
+    }
+
+    #[test]
+    fn csv_flattens_nested_keys() {
+        let mut inner = Map::new();
+        inner.insert("stat".into(), Value::from(0.5));
+        let mut row = Row::new().num("a_nb", 1.0);
+        row.0.insert("budget".into(), Value::Object(inner));
+        let r = Report::new(vec![row]);
+        let s = render(r, Format::Csv, Units::Nb, false).unwrap();
+        assert!(s.lines().any(|l| l == "a_nb,budget.stat"));
+    }
+}

@@ -1,0 +1,16 @@
+//! The `radnorm` command: parse, dispatch, map the outcome to an exit code.
+
+mod cli;
+
+use clap::Parser;
+use std::process::ExitCode;
+
+fn main() -> ExitCode {
+    match cli::run(cli::Cli::parse()) {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(e) => {
+            eprintln!("radnorm: error: {e:#}");
+            ExitCode::from(2)
+        }
+    }
+}

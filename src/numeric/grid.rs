@@ -1,0 +1,130 @@
+//! Grids of values given on the command line or in a card: `3.0` or `start:stop:count`.
+
+use thiserror::Error;
+
+/// A list of points: one value, or `count` points from `start` to `stop` with both ends
+/// included (like numpy's linspace).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Grid {
+    points: Vec<f64>,
+}
+
+#[derive(Debug, Error, Clone, PartialEq)]
+#[non_exhaustive]
+pub enum GridError {
+    #[error("'{text}' is not a number or a grid start:stop:count")]
+    Syntax { text: String },
+    #[error(
+        "grid '{text}' has count {count}; allowed: a whole number ≥ 1 (1 only when start = stop)"
+    )]
+    Count { text: String, count: i64 },
+    #[error("'{text}' is not finite")]
+    NotFinite { text: String },
+}
+
+impl Grid {
+    /// Parse `x` or `start:stop:count`.
+    ///
+    /// # Errors
+    /// [`GridError`] for text that is neither, a count < 1 or non-finite numbers.
+    pub fn parse(text: &str) -> Result<Self, GridError> {
+        let parts: Vec<&str> = text.split(':').map(str::trim).collect();
+        let num = |p: &str| -> Result<f64, GridError> {
+            let v: f64 = p.parse().map_err(|_| GridError::Syntax {
+                text: text.to_string(),
+            })?;
+            if v.is_finite() {
+                Ok(v)
+            } else {
+                Err(GridError::NotFinite {
+                    text: text.to_string(),
+                })
+            }
+        };
+        match parts.as_slice() {
+            [one] => Ok(Grid {
+                points: vec![num(one)?],
+            }),
+            [start, stop, count] => {
+                let (start, stop) = (num(start)?, num(stop)?);
+                let count: i64 = count.parse().map_err(|_| GridError::Syntax {
+                    text: text.to_string(),
+                })?;
+                if count < 1 || (count == 1 && start != stop) {
+                    return Err(GridError::Count {
+                        text: text.to_string(),
+                        count,
+                    });
+                }
+                Ok(Grid::linspace(start, stop, count as usize))
+            }
+            _ => Err(GridError::Syntax {
+                text: text.to_string(),
+            }),
+        }
+    }
+
+    /// `count ≥ 1` points from `start` to `stop`, both included.
+    pub fn linspace(start: f64, stop: f64, count: usize) -> Self {
+        let points = if count <= 1 {
+            vec![start]
+        } else {
+            let step = (stop - start) / (count - 1) as f64;
+            (0..count)
+                .map(|i| {
+                    if i == count - 1 {
+                        stop
+                    } else {
+                        start + step * i as f64
+                    }
+                })
+                .collect()
+        };
+        Grid { points }
+    }
+
+    /// The points, in the order given.
+    pub fn points(&self) -> &[f64] {
+        &self.points
+    }
+
+    /// True for a grid of one point (a single value).
+    pub fn is_single(&self) -> bool {
+        self.points.len() == 1
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn parses_values_and_grids() {
+        assert_eq!(Grid::parse("3.5").unwrap().points(), &[3.5]);
+        let g = Grid::parse("2:12:6").unwrap();
+        assert_eq!(g.points(), &[2.0, 4.0, 6.0, 8.0, 10.0, 12.0]);
+        let g = Grid::parse("-100:-1:50").unwrap();
+        assert_eq!(g.points().len(), 50);
+        assert_eq!(g.points()[0], -100.0);
+        assert_eq!(g.points()[49], -1.0);
+    }
+
+    #[test]
+    fn rejects_bad_grids() {
+        assert!(matches!(
+            Grid::parse("2:12:0"),
+            Err(GridError::Count { .. })
+        ));
+        assert!(matches!(
+            Grid::parse("2:12:1"),
+            Err(GridError::Count { .. })
+        ));
+        assert!(matches!(Grid::parse("2:12"), Err(GridError::Syntax { .. })));
+        assert!(matches!(Grid::parse("abc"), Err(GridError::Syntax { .. })));
+        assert!(matches!(
+            Grid::parse("nan"),
+            Err(GridError::NotFinite { .. })
+        ));
+        assert!(Grid::parse("3:3:1").is_ok());
+    }
+}

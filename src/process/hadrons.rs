@@ -1,0 +1,75 @@
+//! e⁺e⁻ → hadrons at Born level: σ = σ_pt(s)·R(s) with R from a pluggable model.
+
+use super::{Angular, CrossSection, Feature};
+use crate::constants::sigma_point_nb;
+
+/// A model of the R ratio σ(e⁺e⁻ → hadrons)/σ_pt, bare (without vacuum polarisation).
+pub trait RRatio: Sync + Send {
+    /// R at s (GeV²); zero below the hadronic threshold.
+    fn r(&self, s_gev2: f64) -> f64;
+
+    /// The hadronic threshold in GeV² (default 4m_π±², PDG 2026 m_π± = 139.570 MeV).
+    fn threshold_s_gev2(&self) -> f64 {
+        4.0 * 0.139_570_39f64.powi(2)
+    }
+
+    /// Peaks and edges of R for integrators.
+    fn features(&self) -> &[Feature] {
+        &[]
+    }
+
+    /// A one-line description for output provenance.
+    fn describe(&self) -> String;
+}
+
+/// A constant R above the two-pion threshold (a toy or a quick estimate).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ConstantR(pub f64);
+
+impl RRatio for ConstantR {
+    fn r(&self, s_gev2: f64) -> f64 {
+        if s_gev2 > self.threshold_s_gev2() {
+            self.0
+        } else {
+            0.0
+        }
+    }
+    fn describe(&self) -> String {
+        format!("constant R = {}", self.0)
+    }
+}
+
+/// e⁺e⁻ → hadrons through an R model.
+pub struct Hadrons<R: RRatio> {
+    model: R,
+}
+
+impl<R: RRatio> Hadrons<R> {
+    pub fn new(model: R) -> Self {
+        Hadrons { model }
+    }
+
+    pub fn model(&self) -> &R {
+        &self.model
+    }
+}
+
+impl<R: RRatio> CrossSection for Hadrons<R> {
+    fn sigma_nb(&self, s_gev2: f64) -> f64 {
+        sigma_point_nb(s_gev2) * self.model.r(s_gev2)
+    }
+    fn threshold_s_gev2(&self) -> f64 {
+        self.model.threshold_s_gev2()
+    }
+    fn features(&self) -> &[Feature] {
+        self.model.features()
+    }
+}
+
+impl<R: RRatio> Angular for Hadrons<R> {
+    /// The parton-level (3/8)(1 + cos²θ)σ of a spin-½ quark pair along the event axis:
+    /// an inclusive hadronic final state has no single polar angle.
+    fn dsigma_dcos_nb(&self, s_gev2: f64, c: f64) -> f64 {
+        0.375 * (1.0 + c * c) * self.sigma_nb(s_gev2)
+    }
+}
