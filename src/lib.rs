@@ -19,6 +19,7 @@
 //! - [`numeric`]: quadrature, substitutions, principal values, Li₂, splines, grids.
 //! - [`constants`]: physical constants with their sources.
 //! - [`process`]: Born cross-sections (fermion pairs with γ and Z, Bhabha, γγ, hadrons).
+//! - [`vp`]: vacuum polarisation Π(q²), running α, the dressing link.
 //!
 //! ## Units
 //!
@@ -37,5 +38,6 @@ pub mod error;
 pub mod io;
 pub mod numeric;
 pub mod process;
+pub mod vp;
 
 pub use error::ParamError;

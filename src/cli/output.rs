@@ -62,6 +62,28 @@ impl Row {
         self.0.insert(key.to_string(), Value::String(v.into()));
         self
     }
+
+    #[allow(dead_code, reason = "used by the commands that report counts")]
+    pub fn int(mut self, key: &str, v: i64) -> Self {
+        self.0.insert(key.to_string(), Value::from(v));
+        self
+    }
+
+    #[allow(dead_code, reason = "used by the commands that report switches")]
+    pub fn flag(mut self, key: &str, v: bool) -> Self {
+        self.0.insert(key.to_string(), Value::Bool(v));
+        self
+    }
+
+    /// A nested object (a breakdown, a budget) inside this point's object.
+    #[allow(
+        dead_code,
+        reason = "used by the commands that report breakdowns and budgets"
+    )]
+    pub fn nested(mut self, key: &str, v: Row) -> Self {
+        self.0.insert(key.to_string(), Value::Object(v.0));
+        self
+    }
 }
 
 /// A number as JSON; a non-finite one becomes `null` here and is refused in [`render`].

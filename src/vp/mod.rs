@@ -1,0 +1,49 @@
+//! Vacuum polarisation: the photon self-energy Π(q²) and running α.
+//!
+//! Convention (one for the whole code base): α(q²) = α/(1 − Π(q²)), Π(0) = 0,
+//! Δα(q²) = Re Π(q²) > 0 at large |q²|. For timelike q² = s above a threshold Π is
+//! complex, evaluated at s + i0, with Im Π(s + i0) = −(α/3) R_total(s).
+
+mod dressed;
+
+pub use dressed::Dressed;
+
+use crate::process::Feature;
+use num_complex::Complex64;
+
+/// A model of the photon vacuum polarisation Π(q²).
+pub trait Polarisation: Sync + Send {
+    /// Π(q² + i0): real for q² ≤ 0 (spacelike), complex above timelike thresholds.
+    fn pi(&self, q2_gev2: f64) -> Complex64;
+
+    /// Cusps (thresholds) and narrow peaks of Π in s that integrals over s must split at.
+    fn features(&self) -> &[Feature] {
+        &[]
+    }
+
+    /// A one-line description for output provenance.
+    fn describe(&self) -> String;
+
+    /// The s-channel photon propagator factor 1/(1 − Π(s + i0)).
+    fn s_channel_factor(&self, s_gev2: f64) -> Complex64 {
+        1.0 / (1.0 - self.pi(s_gev2))
+    }
+
+    /// The t-channel (spacelike, t < 0) factor 1/(1 − Π(t)), real.
+    fn t_channel_factor(&self, t_gev2: f64) -> f64 {
+        1.0 / (1.0 - self.pi(t_gev2).re)
+    }
+}
+
+/// No vacuum polarisation: Π = 0 (the Born, "bare", choice).
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct NoVp;
+
+impl Polarisation for NoVp {
+    fn pi(&self, _q2_gev2: f64) -> Complex64 {
+        Complex64::new(0.0, 0.0)
+    }
+    fn describe(&self) -> String {
+        "no vacuum polarisation".into()
+    }
+}
