@@ -20,6 +20,7 @@
 //! - [`constants`]: physical constants with their sources.
 //! - [`process`]: Born cross-sections (fermion pairs with γ and Z, Bhabha, γγ, hadrons).
 //! - [`vp`]: vacuum polarisation Π(q²), running α, the dressing link.
+//! - [`budget`]: uncertainty sources as signed shifts per point, covariance across points.
 //!
 //! ## Units
 //!
@@ -33,6 +34,7 @@
 //! assert!((sigma - 0.8685).abs() < 1e-3); // ≈ 86.85 nb / s, just above the μμ threshold effects
 //! ```
 
+pub mod budget;
 pub mod constants;
 pub mod error;
 pub mod io;
