@@ -19,7 +19,7 @@ pub const M_MU_GEV: f64 = 0.105_658_375_5;
 pub const M_TAU_GEV: f64 = 1.776_93;
 
 /// Z mass in GeV (the "running width" Breit–Wigner convention of the PDG fit).
-/// PDG 2026: 91.1880(20) GeV.
+/// PDG 2024: 91.1880(20) GeV; the 2026 average 91.18787(197) agrees to 0.1σ.
 pub const M_Z_GEV: f64 = 91.1880;
 /// Z total width in GeV. PDG 2026: 2.4955(23) GeV.
 pub const GAMMA_Z_GEV: f64 = 2.4955;
@@ -40,7 +40,7 @@ pub const ALPHA_S_MZ_UNC: f64 = 0.0009;
 pub const GEV2_TO_NB: f64 = 0.389_379_372_1e6;
 
 /// Editions of the constant sets above, written into every output's provenance.
-pub const EDITIONS: &str = "CODATA 2022 (alpha, m_e, m_mu, G_F); PDG 2026 (m_tau, M_Z, Gamma_Z, sin2theta_eff); PDG 2024 (alpha_s(M_Z), hbar c)";
+pub const EDITIONS: &str = "CODATA 2022 (alpha, m_e, m_mu, G_F); PDG 2026 (m_tau, Gamma_Z, sin2theta_eff); PDG 2024 (M_Z, alpha_s(M_Z), hbar c)";
 
 /// The point-like cross-section σ_pt = 4πα²/(3s) in nb, s in GeV².
 ///

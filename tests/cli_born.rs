@@ -1,0 +1,173 @@
+//! `radnorm born` end to end: output shapes, units, and errors on bad input.
+
+use assert_cmd::Command;
+use serde_json::Value;
+
+fn radnorm() -> Command {
+    let mut c = Command::cargo_bin("radnorm").unwrap();
+    c.env_remove("RUST_BACKTRACE");
+    c
+}
+
+fn json(args: &[&str]) -> Value {
+    let out = radnorm()
+        .args(args)
+        .args(["--format", "json"])
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    serde_json::from_slice(&out.stdout).unwrap()
+}
+
+#[test]
+fn one_point_is_an_object_and_a_grid_an_array() {
+    let v = json(&["born", "--process", "mumu", "--sqrt-s", "10"]);
+    assert_eq!(v["process"], "mumu");
+    // 86.85 nb/s (σ_pt, Peskin & Schroeder ch. 5) at s = 100 GeV²; mass effects < 1e-7.
+    assert!((v["sigma_nb"].as_f64().unwrap() - 0.8685).abs() < 1e-3);
+    let v = json(&["born", "--process", "tautau", "--sqrt-s", "2:12:11", "--z"]);
+    let rows = v.as_array().unwrap();
+    assert_eq!(rows.len(), 11);
+    // Below the τ threshold (√s = 2, 3 GeV) σ = 0 and A_FB = 0: a result, not an error.
+    assert_eq!(rows[0]["sigma_nb"].as_f64(), Some(0.0));
+    assert_eq!(rows[1]["afb"].as_f64(), Some(0.0));
+    assert!(rows[10]["afb"].as_f64().unwrap() < 0.0);
+}
+
+#[test]
+fn differential_units_and_csv() {
+    let v = json(&[
+        "born",
+        "--process",
+        "gg",
+        "--sqrt-s",
+        "3",
+        "--theta-min-deg",
+        "30",
+        "--theta-max-deg",
+        "150",
+        "--cos-theta",
+        "-0.5",
+        "--units",
+        "pb",
+    ]);
+    assert!(v["dsigma_dcos_pb"].as_f64().unwrap() > 0.0);
+    assert!(v.get("sigma_nb").is_none() && v["sigma_pb"].as_f64().unwrap() > 1000.0);
+    let out = radnorm()
+        .args([
+            "born",
+            "--process",
+            "ee",
+            "--sqrt-s",
+            "1:2:3",
+            "--theta-min-deg",
+            "40",
+            "--theta-max-deg",
+            "140",
+            "--format",
+            "csv",
+        ])
+        .output()
+        .unwrap();
+    let text = String::from_utf8(out.stdout).unwrap();
+    let data: Vec<&str> = text.lines().filter(|l| !l.starts_with('#')).collect();
+    assert_eq!(data[0], "process,sqrt_s_gev,sigma_nb");
+    assert_eq!(data.len(), 4);
+}
+
+#[test]
+fn writes_atomically_to_out() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("born.csv");
+    radnorm()
+        .args([
+            "born",
+            "--process",
+            "mumu",
+            "--sqrt-s",
+            "2:12:1000",
+            "--format",
+            "csv",
+            "--out",
+        ])
+        .arg(&path)
+        .assert()
+        .success();
+    let text = std::fs::read_to_string(&path).unwrap();
+    assert_eq!(text.lines().filter(|l| !l.starts_with('#')).count(), 1001);
+    assert_eq!(
+        std::fs::read_dir(dir.path()).unwrap().count(),
+        1,
+        "no temporary files left"
+    );
+}
+
+/// Each bad input exits with code 2 and a message naming the option and the allowed range.
+#[test]
+fn bad_input_is_a_clear_error() {
+    let cases: &[(&[&str], &str)] = &[
+        (&["--process", "mumu", "--sqrt-s", "-3"], "--sqrt-s"),
+        (&["--process", "mumu", "--sqrt-s", "0"], "--sqrt-s"),
+        (&["--process", "mumu", "--sqrt-s", "2:12:0"], "count"),
+        (
+            &[
+                "--process",
+                "ee",
+                "--sqrt-s",
+                "3",
+                "--theta-min-deg",
+                "50",
+                "--theta-max-deg",
+                "40",
+            ],
+            "--theta-max-deg",
+        ),
+        (
+            &[
+                "--process",
+                "ee",
+                "--sqrt-s",
+                "3",
+                "--theta-min-deg",
+                "0",
+                "--theta-max-deg",
+                "40",
+            ],
+            "--theta-min-deg",
+        ),
+        (
+            &[
+                "--process",
+                "ee",
+                "--sqrt-s",
+                "3",
+                "--theta-min-deg",
+                "10",
+                "--theta-max-deg",
+                "190",
+            ],
+            "--theta-max-deg",
+        ),
+        (&["--process", "ee", "--sqrt-s", "3"], "--theta-min-deg"),
+        (
+            &["--process", "mumu", "--sqrt-s", "3", "--cos-theta", "1.5"],
+            "--cos-theta",
+        ),
+        (&["--process", "quark", "--sqrt-s", "3"], "--process"),
+        (&["--process", "mumu", "--sqrt-s", "abc"], "--sqrt-s"),
+    ];
+    for (args, flag) in cases {
+        let out = radnorm().arg("born").args(*args).output().unwrap();
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert_eq!(out.status.code(), Some(2), "{args:?}: {err}");
+        assert!(
+            err.contains(flag),
+            "{args:?}: message does not name {flag}: {err}"
+        );
+        assert!(!err.contains("panicked"), "{args:?}: {err}");
+    }
+}
