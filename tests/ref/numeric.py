@@ -17,7 +17,7 @@ for i, (re, im) in enumerate([(0.3, 0.4), (-2.0, 1.0), (0.9, -0.2), (3.0, 0.5), 
     print(f"li2_cplx_{i}", re, im, mp.nstr(v.real, 20), mp.nstr(v.imag, 20))
 v, _ = integrate.quad(np.cos, 0.0, np.pi, weight="cauchy", wvar=1.0, epsabs=1e-14, epsrel=1e-14)
 print("pv_cos", v)
-v, _ = integrate.quad(lambda x: np.exp(-x) / (1 + x), 0.0, 3.0, weight="cauchy", wvar=0.7, epsabs=1e-14, epsrel=1e-14, limit=200)
+v, _ = integrate.quad(lambda x: np.exp(-x) / (1 + x), 0.0, 3.0, weight="cauchy", wvar=0.7, epsabs=1e-13, epsrel=1e-13, limit=200)
 print("pv_exp", v)
 b = 0.07
 v, _ = integrate.quad(lambda x: np.cos(3 * x) / (1 + x * x), 0.0, 1.0, weight="alg", wvar=(b - 1, 0), epsabs=1e-14, epsrel=1e-14)
