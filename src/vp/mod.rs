@@ -5,6 +5,7 @@
 //! complex, evaluated at s + i0, with Im Π(s + i0) = −(α/3) R_total(s).
 
 mod dressed;
+pub mod leptonic;
 
 pub use dressed::Dressed;
 
