@@ -13,7 +13,7 @@
 
 use crate::numeric::CubicSpline;
 
-const ZETA3: f64 = 1.202_056_903_159_594_3;
+const ZETA3: f64 = 1.202_056_903_159_594;
 
 /// The β-function coefficients for a = α_s/π at `nf` flavours.
 fn beta(nf: f64) -> [f64; 4] {

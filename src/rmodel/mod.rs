@@ -11,7 +11,7 @@
 //! - `pqcd`: perturbative QCD from 2 GeV with charm and bottom mass effects ([`pqcd`]);
 //! - `narrow`: J/ψ, ψ(2S), Υ(1S, 2S, 3S) as constant-width Breit–Wigners with bare Γ_ee
 //!   (analytic in the dispersion integral);
-//! - with a user table ([`RTable`]), `table_syst` and `table_stat` replace the smooth regions
+//! - with a user table ([`RTable`]), `user_table` (its share and correlated r_syst) and `user_table_stat` (point-to-point r_stat) replace the smooth regions
 //!   over the table's range (ω, φ are dropped where the table covers their mass; the narrow
 //!   resonances too if the table says it includes them).
 //!
@@ -70,8 +70,8 @@ impl Region {
             Region::Inclusive => "inclusive_1_2_gev",
             Region::Pqcd => "pqcd",
             Region::Narrow => "narrow",
-            Region::TableSyst => "table_syst",
-            Region::TableStat => "table_stat",
+            Region::TableSyst => "user_table",
+            Region::TableStat => "user_table_stat",
         }
     }
 }

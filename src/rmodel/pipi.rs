@@ -1,7 +1,7 @@
 //! e⁺e⁻ → π⁺π⁻: the Gounaris–Sakurai ρ with ρ–ω mixing.
 //!
-//! R_ππ = β³|F_π(s)|²/4 with F_π = [BW_ρ^GS(s)·(1 + δ s/M_ω² · BW_ω(s))/(1 + δ)
-//! + β BW_ρ′^GS(s)]/(1 + β), BW_ω = M_ω²/(M_ω² − s − iM_ωΓ_ω), and the Gounaris–Sakurai form
+//! R_ππ = β³|F_π(s)|²/4 with F_π = [BW_ρ^GS(s)·(1 + δ s/M_ω² · BW_ω(s))/(1 + δ) +
+//! β BW_ρ′^GS(s)]/(1 + β), BW_ω = M_ω²/(M_ω² − s − iM_ωΓ_ω), and the Gounaris–Sakurai form
 //! BW^GS = M²(1 + dΓ/M)/(M² − s + f(s) − iMΓ(s)), Γ(s) = Γ(M/√s)(k(s)/k(M²))³,
 //! k = ½√(s − 4m_π²), h(s) = (2/π)(k/√s) ln((√s + 2k)/(2m_π)),
 //! f(s) = ΓM²/k(M²)³ [k²(h − h(M²)) + (M² − s)k(M²)² h′(M²)],

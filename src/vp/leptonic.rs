@@ -15,8 +15,8 @@ use std::f64::consts::PI;
 pub const LEPTON_MASSES_GEV: [f64; 3] = [M_E_GEV, M_MU_GEV, M_TAU_GEV];
 
 /// Riemann ζ(3), ζ(5) and ln 2 (DLMF 25.6, 4.2; 20 digits).
-const ZETA3: f64 = 1.202_056_903_159_594_3;
-const ZETA5: f64 = 1.036_927_755_143_369_9;
+const ZETA3: f64 = 1.202_056_903_159_594;
+const ZETA5: f64 = 1.036_927_755_143_37;
 const ZETA2: f64 = PI * PI / 6.0;
 
 /// |x| = |q²/m²| below which the one-loop function uses its power series.
