@@ -46,7 +46,7 @@ pub fn one_loop(q2_gev2: f64, m_gev: f64) -> Complex64 {
         let lg = if b == 0.0 {
             0.0
         } else {
-            2.0 * b.ln_1p() - y.abs().ln()
+            ((1.0 + b) * (1.0 + b) / y.abs()).ln()
         };
         let re = c * (-5.0 / 3.0 - y + (1.0 + 0.5 * y) * b * lg);
         let im = if x > 4.0 {
@@ -145,6 +145,14 @@ pub fn higher_orders(q2_gev2: f64) -> Complex64 {
     }
     Complex64::new(re, im)
 }
+
+/// (ln mᵢ² for e, μ, τ; the quenched three-loop constant), computed once.
+static CONSTANTS: std::sync::LazyLock<([f64; 3], f64)> = std::sync::LazyLock::new(|| {
+    let lm = LEPTON_MASSES_GEV.map(|m| (m * m).ln());
+    let quenched =
+        -121.0 / 48.0 + (-5.0 + 8.0 * 2f64.ln()) * ZETA2 - 99.0 / 16.0 * ZETA3 + 10.0 * ZETA5;
+    (lm, quenched)
+});
 
 /// The total leptonic Π(q² + i0): exact one loop plus [`higher_orders`], e + μ + τ.
 pub fn pi_leptonic(q2_gev2: f64) -> Complex64 {
