@@ -115,14 +115,9 @@ pub fn higher_orders(q2_gev2: f64) -> Complex64 {
     }
     let a = ALPHA / PI;
     let lq = aq.ln();
-    let quenched_const =
-        -121.0 / 48.0 + (-5.0 + 8.0 * 2f64.ln()) * ZETA2 - 99.0 / 16.0 * ZETA3 + 10.0 * ZETA5;
+    let (lm, quenched_const) = *CONSTANTS;
     let mut re = 0.0;
     let mut im = 0.0;
-    let mut lm = [0.0; 3];
-    for (l, &m) in lm.iter_mut().zip(&LEPTON_MASSES_GEV) {
-        *l = (m * m).ln();
-    }
     for (i, &m) in LEPTON_MASSES_GEV.iter().enumerate() {
         let m2 = m * m;
         let x = aq / m2;
