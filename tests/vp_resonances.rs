@@ -13,7 +13,10 @@ fn resonance_table_matches_pdg_2026() {
         return;
     };
     let pdg = parse_key_values(&out);
-    assert_eq!(pdg["edition"], 2026.0, "the pdg package is not the 2026 edition");
+    assert_eq!(
+        pdg["edition"], 2026.0,
+        "the pdg package is not the 2026 edition"
+    );
     let p = Parameters::shipped();
     // The table carries 10 significant digits of the pdg values: 1e-9 relative.
     let tol = 1e-9;
@@ -21,10 +24,30 @@ fn resonance_table_matches_pdg_2026() {
     assert_rel("rho.width_gev", p.rho.width_gev, pdg["rho.width_gev"], tol);
     for r in &p.resonance {
         let key = |k: &str| pdg[&format!("{}.{k}", r.name)];
-        assert_rel(&format!("{} mass", r.name), r.mass_gev, key("mass_gev"), tol);
-        assert_rel(&format!("{} width", r.name), r.width_gev, key("width_gev"), tol);
-        assert_rel(&format!("{} gamma_ee", r.name), r.gamma_ee_kev, key("gamma_ee_kev"), tol);
-        assert_rel(&format!("{} gamma_ee_unc", r.name), r.gamma_ee_unc_kev, key("gamma_ee_unc_kev"), tol);
+        assert_rel(
+            &format!("{} mass", r.name),
+            r.mass_gev,
+            key("mass_gev"),
+            tol,
+        );
+        assert_rel(
+            &format!("{} width", r.name),
+            r.width_gev,
+            key("width_gev"),
+            tol,
+        );
+        assert_rel(
+            &format!("{} gamma_ee", r.name),
+            r.gamma_ee_kev,
+            key("gamma_ee_kev"),
+            tol,
+        );
+        assert_rel(
+            &format!("{} gamma_ee_unc", r.name),
+            r.gamma_ee_unc_kev,
+            key("gamma_ee_unc_kev"),
+            tol,
+        );
     }
 }
 
@@ -41,6 +64,11 @@ fn alpha_s_running_matches_scipy() {
     let a = AlphaS::new(0.1180, 91.1880, 1.2729, 4.186);
     for p in points {
         let e: f64 = p.parse().unwrap();
-        assert_rel(&format!("alpha_s({e} GeV)"), a.alpha_s(e * e), want[&format!("as_{p}")], 1e-8);
+        assert_rel(
+            &format!("alpha_s({e} GeV)"),
+            a.alpha_s(e * e),
+            want[&format!("as_{p}")],
+            1e-8,
+        );
     }
 }

@@ -92,9 +92,8 @@ impl AlphaS {
     }
 }
 
-/// RK4 from (a0, t0) to both ends of `span` = [t_lo, t_hi] (t0 inside); returns the sorted grid
-/// and [a at the far end reached first…, values on the grid]: `out[0][0]` is a at span's end
-/// away from t0 on the side that the next piece continues from (the lower end unless t0 is it).
+/// RK4 from (a0, t0) to both ends of `span` = [t_lo, t_hi] (t0 inside). Returns the sorted
+/// grid in t and [[a at t_lo], a on the grid]; a at t_lo starts the next lower piece.
 fn run(a0: f64, t0: f64, span: &[f64; 2], nf: f64) -> (Vec<f64>, [Vec<f64>; 2]) {
     let b = beta(nf);
     let mut lower = vec![(t0, a0)];

@@ -11,12 +11,15 @@
 //! - `pqcd`: perturbative QCD from 2 GeV with charm and bottom mass effects ([`pqcd`]);
 //! - `narrow`: J/ψ, ψ(2S), Υ(1S, 2S, 3S) as constant-width Breit–Wigners with bare Γ_ee
 //!   (analytic in the dispersion integral);
-//! - with a user table ([`RTable`]), `user_table` (its share and correlated r_syst) and `user_table_stat` (point-to-point r_stat) replace the smooth regions
-//!   over the table's range (ω, φ are dropped where the table covers their mass; the narrow
+//! - with a user table ([`RTable`]), `user_table` (its share, with the correlated r_syst)
+//!   and `user_table_stat` (the point-to-point r_stat) replace the smooth regions over the
+//!   table's range (ω, φ are dropped where the table covers their mass; the narrow
 //!   resonances too if the table says it includes them).
 //!
-//! The model R is continuous in s (so Re Π has no logarithmic spikes) except at the lower edge
-//! of the Breit–Wigners (4m_π²) and at the ends of a user table.
+//! The model R is continuous in s (so Re Π has no logarithmic spikes), except at the ends of
+//! a user table, where R jumps from the model to the table: there Re Π has the logarithmic
+//! spike that a discontinuous R implies (finite at every representable q², but large within
+//! ~10⁻⁹ of the edge). Smooth the ends of a table (or let it start where the model agrees).
 //!
 //! Uncertainties (1σ, absolute in R, correlated within each region): `pipi` 4% (the GS form
 //! with PDG ρ parameters and no ρ′ against data: generous); `omega_phi`, `narrow`: the PDG
@@ -118,7 +121,9 @@ pub struct Variation {
     pub n_sigma: f64,
 }
 
-/// The R(s) model.
+/// The R(s) model (see the module documentation for its regions).
+///
+/// `RRatio::r` is the bare R: use it in [`crate::process::Hadrons`] for the Born σ.
 #[derive(Debug, Clone)]
 pub struct RModel {
     pion: PionFormFactor,

@@ -21,7 +21,7 @@ pub struct Chebyshev {
 
 impl Chebyshev {
     /// Tabulate `f` on [`breaks`₀, `breaks`_last] (pieces never straddle a break) to
-    /// absolute tolerance `tol(a, b, values)` per piece.
+    /// absolute tolerance `tol(values)` per piece (`values`: the samples on the piece).
     pub fn build<F, T>(f: &F, breaks: &[f64], tol: &T) -> Self
     where
         F: Fn(f64) -> f64 + Sync,

@@ -9,8 +9,14 @@
 //! interpolants in ln|q²| ([`chebyshev`]) are built from it for spacelike and timelike q²
 //! (|q²| ≤ 10¹⁰ GeV²; beyond, the rule is used directly; below 10⁻⁶ GeV² the Taylor series
 //! to q⁴). [`smooth_re_direct`] is the independent adaptive integral the table is checked
-//! against. At a threshold or a resonance mass every term is finite (the Breit–Wigner is
-//! evaluated at its peak; thresholds are continuous in R), so Π is defined everywhere.
+//! against. At a threshold or a resonance mass every term is finite (a Breit–Wigner at its
+//! peak is −i(α/3)R_peak plus a finite real part; R is continuous at every threshold), so Π
+//! is defined for every real q², with no special case.
+//!
+//! The table's error bound: each Chebyshev piece meets 10⁻⁹ × its largest |value| by its
+//! coefficient tail, and the fixed rule agrees with the adaptive integral to ≲10⁻⁸
+//! relative; `tests/vp_hadronic.rs` checks table against direct on seeded random points and
+//! next to every structure at 10⁻⁶ relative (the bound).
 
 pub mod chebyshev;
 pub mod rule;

@@ -2,9 +2,10 @@
 //!
 //! Panels of 10-point Gauss–Legendre between the model's structures: each panel is at most
 //! 12% of s wide and, near a peak at M² with width parameter MΓ, at most
-//! max(MΓ, |s − M²|) wide, and within its distance (at least 10⁻³ s) of the nearest edge. A panel that starts at a threshold where R rises like a power
-//! of (s − s₀) (the ππ, open-charm and open-bottom thresholds) uses s = a + (b − a)t² so the
-//! integrand is smooth in t. Above 10¹² GeV² one panel in u = 10¹²/s covers the tail.
+//! max(MΓ, |s − M²|) wide, and panels are graded towards every edge (a kink of R, where a
+//! pole q² close by needs resolution on the scale of its distance). A panel that starts at a
+//! threshold where R rises like a power of (s − s₀) (the ππ threshold, β³) uses
+//! s = a + (b − a)t², so the integrand is smooth in t. Above 10¹² GeV² one panel in u = 10¹²/s covers the tail.
 //!
 //! With the nodes fixed, R is sampled once per model and every q² costs one pass over them:
 //! this is how the tables are built and how out-of-table points are evaluated.
