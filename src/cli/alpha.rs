@@ -84,27 +84,17 @@ pub fn run(args: AlphaArgs) -> Result<()> {
                 .num("im_pi", lep.im + had.im)
                 .num("alpha_inv", ALPHA_INV * (1.0 - lep.re - had.re));
             if args.breakdown {
+                // Each region's share and 1σ; the point-to-point part of a user table has
+                // an uncertainty but no separate share.
+                let shares = hadronic.breakdown(q2);
                 let mut nested = Row::new();
-                for part in hadronic.breakdown(q2) {
-                    let u = budget
-                        .iter()
-                        .find(|b| b.region == part.region)
-                        .map_or(0.0, |b| b.value);
-                    nested = nested.nested(
-                        part.region.key(),
-                        Row::new()
-                            .num("delta_alpha_had", part.value)
-                            .num("delta_alpha_had_unc", u),
-                    );
-                }
-                for b in budget
-                    .iter()
-                    .filter(|b| hadronic.breakdown(q2).iter().all(|p| p.region != b.region))
-                {
-                    nested = nested.nested(
-                        b.region.key(),
-                        Row::new().num("delta_alpha_had_unc", b.value),
-                    );
+                for b in &budget {
+                    let mut entry = Row::new();
+                    if let Some(p) = shares.iter().find(|p| p.region == b.region) {
+                        entry = entry.num("delta_alpha_had", p.value);
+                    }
+                    nested =
+                        nested.nested(b.region.key(), entry.num("delta_alpha_had_unc", b.value));
                 }
                 row = row.nested("breakdown", nested);
             }
