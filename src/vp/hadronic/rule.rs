@@ -26,9 +26,17 @@ pub struct Rule {
 }
 
 impl Rule {
-    /// Build the rule: `edges` are kinks/discontinuities (panel boundaries), `thresholds` the
-    /// subset where R starts like a power (t² map), `peaks` (M², MΓ) pairs.
-    pub fn new(s_th: f64, edges: &[f64], thresholds: &[f64], peaks: &[(f64, f64)]) -> Self {
+    /// Build the rule: `edges` are kinks/discontinuities (graded panel boundaries), `plain`
+    /// further panel boundaries without grading (the rows of a user table, where R is
+    /// linear in √s between them), `thresholds` where R starts like a power (t² map),
+    /// `peaks` (M², MΓ) pairs.
+    pub fn new(
+        s_th: f64,
+        edges: &[f64],
+        plain: &[f64],
+        thresholds: &[f64],
+        peaks: &[(f64, f64)],
+    ) -> Self {
         let gl = GaussLegendre::new(POINTS);
         let mut bounds: Vec<f64> = edges
             .iter()
@@ -39,9 +47,11 @@ impl Rule {
             .collect();
         bounds.push(s_th);
         bounds.push(S_END);
+        let mut inner = bounds.clone();
+        inner.sort_by(f64::total_cmp);
+        bounds.extend(plain.iter().copied().filter(|&e| e > s_th && e < S_END));
         bounds.sort_by(f64::total_cmp);
         bounds.dedup();
-        let inner = bounds.clone();
         let scale = |s: f64| {
             // Graded towards every edge (R has a kink there, and a pole q² next to it needs
             // resolution on the scale of its distance): h ≤ max(distance, 10⁻³ s).
