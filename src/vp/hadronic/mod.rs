@@ -232,7 +232,7 @@ impl HadronicVp {
             (0..16).map(|k| lo + (hi - lo) * k as f64 / 16.0).collect();
         space_breaks.push(hi);
         let spacelike = Chebyshev::build(&|x: f64| re_rule(-x.exp()), &space_breaks, &tol);
-        let mut time_breaks = space_breaks.clone();
+        let mut time_breaks = vec![lo, hi];
         for &e in edges.iter().chain(&knots) {
             time_breaks.push(e.ln());
         }

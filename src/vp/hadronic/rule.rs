@@ -1,7 +1,7 @@
 //! A fixed quadrature rule for dispersion integrals over s ∈ [s_th, ∞).
 //!
 //! Panels of 10-point Gauss–Legendre between the model's structures: each panel is at most
-//! 12% of s wide and, near a peak at M² with width parameter MΓ, at most
+//! 12% of s wide (40% above 150 GeV², where R is pQCD alone) and, near a peak at M² with width parameter MΓ, at most
 //! max(MΓ, |s − M²|) wide, and panels are graded towards every edge (a kink of R, where a
 //! pole q² close by needs resolution on the scale of its distance). A panel that starts at a
 //! threshold where R rises like a power of (s − s₀) (the ππ threshold, β³) uses
@@ -16,12 +16,17 @@ use crate::numeric::GaussLegendre;
 pub const S_END: f64 = 1e12;
 const POINTS: usize = 10;
 const MAX_RATIO: f64 = 0.12;
+/// Above this s (GeV²) R is smooth (pQCD, no edges beyond the b onset): wider panels.
+const SMOOTH_ABOVE: f64 = 150.0;
+const MAX_RATIO_SMOOTH: f64 = 0.4;
 
 /// Nodes and weights for ∫_{s_th}^∞ f(s) ds.
 #[derive(Debug, Clone)]
 pub struct Rule {
     pub s: Vec<f64>,
     pub w: Vec<f64>,
+    /// q·wᵢ/sᵢ is the subtraction's weight: wᵢ/sᵢ kept to save a division per node.
+    w_over_s: Vec<f64>,
     pub s_th: f64,
 }
 
@@ -60,7 +65,12 @@ impl Rule {
                 .iter()
                 .map(|&e| if e > s { 0.5 * (e - s) } else { s - e })
                 .fold(f64::INFINITY, f64::min);
-            let mut h = (MAX_RATIO * s).min(d.max(1e-3 * s));
+            let ratio = if s < SMOOTH_ABOVE {
+                MAX_RATIO
+            } else {
+                MAX_RATIO_SMOOTH
+            };
+            let mut h = (ratio * s).min(d.max(1e-3 * s));
             for &(m2, mg) in peaks {
                 h = h.min(mg.max((s - m2).abs()));
             }
@@ -98,9 +108,11 @@ impl Rule {
             s_nodes.push(S_END / u);
             weights.push(0.5 * wx * S_END / (u * u));
         }
+        let w_over_s = weights.iter().zip(&s_nodes).map(|(w, s)| w / s).collect();
         Rule {
             s: s_nodes,
             w: weights,
+            w_over_s,
             s_th,
         }
     }
@@ -116,12 +128,13 @@ impl Rule {
             }
             return sum;
         }
-        for ((s, w), gi) in self.s.iter().zip(&self.w).zip(g) {
+        let gq_q = g_q * q;
+        for (((s, w), ws), gi) in self.s.iter().zip(&self.w).zip(&self.w_over_s).zip(g) {
             let d = s - q;
             // A node within rounding of the pole: the subtracted integrand's limit there is
             // g′(q) + g(q)/q, of the order of its neighbours; its weight is negligible.
             if d.abs() > 1e-10 * q {
-                sum += w * (gi - g_q * q / s) / d;
+                sum += (w * gi - gq_q * ws) / d;
             }
         }
         sum + g_q * (self.s_th / (q - self.s_th)).ln()
