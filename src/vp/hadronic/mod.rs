@@ -156,8 +156,9 @@ pub struct HadronicVp {
     rule: Rule,
     /// R_smooth(sᵢ)/sᵢ on the rule's nodes.
     g: Vec<f64>,
-    /// Per smooth region: (region, share of R/s, 1σ uncertainty of R/s) on the nodes.
-    parts: Vec<(Region, Vec<f64>, Vec<f64>)>,
+    /// Per smooth region: (region, its index in `RModel::smooth_region_parts`, share of R/s,
+    /// 1σ uncertainty of R/s) on the nodes.
+    parts: Vec<(Region, usize, Vec<f64>, Vec<f64>)>,
     spacelike: Chebyshev,
     timelike: Chebyshev,
     /// Taylor coefficients of Re Π_smooth at q² = 0 (q² and q⁴ terms).
@@ -168,7 +169,7 @@ pub struct HadronicVp {
 }
 
 impl HadronicVp {
-    /// Tabulate the hadronic Π of `model` (≈ 10 ms on one core for the default model).
+    /// Tabulate the hadronic Π of `model` (≈ 25–40 ms for the default model; benches/vp.rs).
     pub fn new(model: RModel) -> Self {
         let s_th = model.s_threshold();
         let edges: Vec<f64> = model
@@ -205,7 +206,7 @@ impl HadronicVp {
                 .map(|&s| model.smooth_region_parts(s)[k].1 / s)
                 .collect();
             let unc = rule.s.iter().map(|&s| model.r_unc(region, s) / s).collect();
-            parts.push((region, share, unc));
+            parts.push((region, k, share, unc));
         }
         let c = -ALPHA / (3.0 * PI);
         let c1 = c * rule
@@ -336,20 +337,9 @@ impl HadronicVp {
         let mut out: Vec<RegionValue> = self
             .parts
             .iter()
-            .map(|(region, share, _)| RegionValue {
+            .map(|(region, k, share, _)| RegionValue {
                 region: *region,
-                value: self.rule_re(share, q2, |s| {
-                    let k = [
-                        Region::PiPi,
-                        Region::Inclusive,
-                        Region::Pqcd,
-                        Region::TableSyst,
-                    ]
-                    .iter()
-                    .position(|r| r == region)
-                    .unwrap_or(0);
-                    self.model.smooth_region_parts(s)[k].1
-                }),
+                value: self.rule_re(share, q2, |s| self.model.smooth_region_parts(s)[*k].1),
             })
             .collect();
         let ln_q2 = log_q2(q2);
@@ -371,7 +361,7 @@ impl HadronicVp {
         let mut out: Vec<RegionValue> = self
             .parts
             .iter()
-            .map(|(region, _, unc)| RegionValue {
+            .map(|(region, _, _, unc)| RegionValue {
                 region: *region,
                 value: self
                     .rule_re(unc, q2, |s| self.model.r_unc(*region, s))
