@@ -20,6 +20,7 @@
 //! - [`constants`]: physical constants with their sources.
 //! - [`process`]: Born cross-sections (fermion pairs with γ and Z, Bhabha, γγ, hadrons).
 //! - [`vp`]: vacuum polarisation Π(q²), running α, the dressing link.
+//! - [`isr`]: radiator schemes, the ISR convolution with cuts, final-state factor, beam spread.
 //!
 //! ## Units
 //!
@@ -36,6 +37,7 @@
 pub mod constants;
 pub mod error;
 pub mod io;
+pub mod isr;
 pub mod numeric;
 pub mod process;
 pub mod vp;
