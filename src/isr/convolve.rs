@@ -29,10 +29,18 @@ const HEAD_X_MAX: f64 = 0.5;
 /// Multiples of the width around a peak where the adaptive fallback starts subdividing.
 const PEAK_STEPS: [f64; 9] = [-64.0, -16.0, -4.0, -1.0, 0.0, 1.0, 4.0, 16.0, 64.0];
 
-/// The two fixed rules on [0, 1]: (nodes, weights) of the high and low order.
+/// A fixed rule on [0, 1]: nodes u, weights, and ln u (the head map needs ln t =
+/// ln t_max + ln u, so the logarithm is paid once per process, not per node).
+struct Rule {
+    nodes: Vec<f64>,
+    weights: Vec<f64>,
+    ln_nodes: Vec<f64>,
+}
+
+/// The high and the low fixed rule.
 struct Rules {
-    hi: (Vec<f64>, Vec<f64>),
-    lo: (Vec<f64>, Vec<f64>),
+    hi: Rule,
+    lo: Rule,
 }
 
 fn rules() -> &'static Rules {
@@ -40,9 +48,14 @@ fn rules() -> &'static Rules {
     RULES.get_or_init(|| {
         let unit = |n: usize| {
             let g = GaussLegendre::new(n);
-            let nodes = g.nodes().iter().map(|x| 0.5 * (x + 1.0)).collect();
+            let nodes: Vec<f64> = g.nodes().iter().map(|x| 0.5 * (x + 1.0)).collect();
             let weights = g.weights().iter().map(|w| 0.5 * w).collect();
-            (nodes, weights)
+            let ln_nodes = nodes.iter().map(|u| u.ln()).collect();
+            Rule {
+                nodes,
+                weights,
+                ln_nodes,
+            }
         };
         Rules {
             hi: unit(FIXED_ORDER),
@@ -87,7 +100,7 @@ enum End {
 #[derive(Debug, Clone, Copy, PartialEq)]
 enum Panel {
     /// x ∈ [0, x₀] integrated in t = x^β ∈ [0, t_max].
-    Head { t_max: f64 },
+    Head { t_max: f64, ln_t_max: f64 },
     /// v = ln(1 − x) ∈ [lo, hi] with the behaviour at each end.
     Log {
         lo: f64,
@@ -102,7 +115,7 @@ impl Panel {
     #[inline]
     fn map(&self, u: f64) -> (f64, f64) {
         match *self {
-            Panel::Head { t_max } => (t_max * u, t_max),
+            Panel::Head { t_max, .. } => (t_max * u, t_max),
             Panel::Log {
                 lo,
                 hi,
@@ -142,12 +155,12 @@ struct Integrand<'a, C: ?Sized> {
 }
 
 impl<C: CrossSection + ?Sized> Integrand<'_, C> {
-    /// In t = x^β: [C + H(x)·x/(βt)]·σ_d(s(1 − x)).
+    /// In t = x^β: [C + H(x)·x/(βt)]·σ_d(s(1 − x)), given t and ln t.
     #[inline]
-    fn head(&self, t: f64) -> f64 {
-        let ln_x = t.ln() * self.inv_beta;
+    fn head(&self, t: f64, ln_t: f64) -> f64 {
+        let ln_x = ln_t * self.inv_beta;
         let x = ln_x.exp();
-        let hard = self.rad.hard_with_logs(x, ln_x, (-x).ln_1p());
+        let hard = self.rad.hard_with_logs(x, ln_x, ln_one_minus(x));
         let weight = self.rad.soft_coefficient() + hard * x / t * self.inv_beta;
         weight * self.sigma.sigma_nb(self.s * (1.0 - x))
     }
@@ -164,14 +177,35 @@ impl<C: CrossSection + ?Sized> Integrand<'_, C> {
         f * y * self.sigma.sigma_nb(self.s * y)
     }
 
+    /// The panel integrand times its Jacobian at the rule node u (with ln u).
     #[inline]
-    fn at(&self, panel: &Panel, u: f64) -> f64 {
+    fn at(&self, panel: &Panel, u: f64, ln_u: f64) -> f64 {
         let (z, jac) = panel.map(u);
         let f = match panel {
-            Panel::Head { .. } => self.head(z),
+            Panel::Head { ln_t_max, .. } => self.head(z, ln_t_max + ln_u),
             Panel::Log { .. } => self.log(z),
         };
         f * jac
+    }
+
+    /// Σ w·f over one fixed rule on one panel.
+    #[inline]
+    fn sum(&self, panel: &Panel, rule: &Rule) -> f64 {
+        let mut acc = 0.0;
+        for i in 0..rule.nodes.len() {
+            acc += rule.weights[i] * self.at(panel, rule.nodes[i], rule.ln_nodes[i]);
+        }
+        acc
+    }
+}
+
+/// ln(1 − x), by its series where most head nodes sit (x < 1e-3; 6 terms reach 1e-19).
+#[inline]
+fn ln_one_minus(x: f64) -> f64 {
+    if x < 1e-3 {
+        -x * (1.0 + x * (0.5 + x * (1.0 / 3.0 + x * (0.25 + x * (0.2 + x / 6.0)))))
+    } else {
+        (-x).ln_1p()
     }
 }
 
@@ -288,10 +322,11 @@ impl Isr {
         threshold_end: bool,
     ) -> Option<Observed> {
         let x0 = head_end(breaks, x_max, threshold_end);
-        let mut panels = [Panel::Head { t_max: 0.0 }; 2 * MAX_PANELS + 2];
-        panels[0] = Panel::Head {
-            t_max: x0.powf(f.rad.beta()),
-        };
+        let ln_t_max = f.rad.beta() * x0.ln();
+        let mut panels = [Panel::Head {
+            t_max: ln_t_max.exp(),
+            ln_t_max,
+        }; 2 * MAX_PANELS + 2];
         let mut n = 1;
         let mut a = Break {
             x: x0,
@@ -310,18 +345,7 @@ impl Isr {
         let r = rules();
         let (mut value, mut error) = (0.0, 0.0);
         for p in &panels[..n] {
-            let hi: f64 =
-                r.hi.0
-                    .iter()
-                    .zip(&r.hi.1)
-                    .map(|(&u, &w)| w * f.at(p, u))
-                    .sum();
-            let lo: f64 =
-                r.lo.0
-                    .iter()
-                    .zip(&r.lo.1)
-                    .map(|(&u, &w)| w * f.at(p, u))
-                    .sum();
+            let (hi, lo) = (f.sum(p, &r.hi), f.sum(p, &r.lo));
             value += hi;
             error += (hi - lo).abs();
         }
@@ -372,7 +396,7 @@ impl Isr {
             .collect();
         let v_breaks: Vec<f64> = xs.iter().map(|&x| (-x).ln_1p()).collect();
         let tol = Tolerance::relative(self.rel_tol);
-        let head = integrate(|t| f.head(t), 0.0, x0.powf(beta), &t_breaks, tol);
+        let head = integrate(|t| f.head(t, t.ln()), 0.0, x0.powf(beta), &t_breaks, tol);
         let tail = if x0 < x_max {
             integrate(
                 |v| f.log(v),
