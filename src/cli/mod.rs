@@ -2,6 +2,7 @@
 //!
 //! Only this layer uses clap and anyhow; it does no physics, only calls the library.
 
+mod alpha;
 mod born;
 pub mod output;
 
@@ -23,12 +24,15 @@ pub struct Cli {
 enum Command {
     /// Born cross-section of a process at one energy or on a grid.
     Born(born::BornArgs),
+    /// Running α at q² (spacelike or timelike): Δα_lep, Δα_had with its uncertainty, 1/α.
+    Alpha(alpha::AlphaArgs),
 }
 
 /// Parse the arguments and run the command.
 pub fn run(cli: Cli) -> Result<()> {
     match cli.command {
         Command::Born(args) => born::run(args),
+        Command::Alpha(args) => alpha::run(args),
     }
 }
 
