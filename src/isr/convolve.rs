@@ -428,8 +428,7 @@ impl Isr {
 }
 
 /// The features strictly inside (0, x_max) as sorted breaks; None if there are too many
-/// for the fixed path, or a peak sits within a few widths of x = 0 or x_max (there the
-/// head or last panel would see a Breit–Wigner: the adaptive path takes it).
+/// for the fixed path, or a peak sits where no panel end can take it.
 fn collect_breaks(
     features: &[Feature],
     s: f64,
@@ -446,7 +445,11 @@ fn collect_breaks(
             } => (s_gev2, End::Peak(m_gamma_gev2 / s_gev2), m_gamma_gev2 / s),
         };
         let x = 1.0 - s_f / s;
-        if width_x > 0.0 && (x.abs() < 64.0 * width_x || (x - x_max).abs() < 64.0 * width_x) {
+        // A peak centred near x = 0 (√s within its widths) would sit inside the head panel,
+        // one just beyond x_max at the open end of the last: both go adaptive.
+        let near_zero = x.abs() < 64.0 * width_x;
+        let beyond_end = x >= x_max && x - x_max < 64.0 * width_x;
+        if width_x > 0.0 && (near_zero || beyond_end) {
             return None;
         }
         if x <= 0.0 || x >= x_max * (1.0 - 1e-12) {
