@@ -32,7 +32,8 @@ fn gaussian_spread_of_a_lorentzian_is_the_voigt_profile() {
     };
     let want = parse_key_values(&out);
     let (m, sw_mev) = (3.097, 1.0);
-    for ratio in [1e-2, 1.0, 1e2] {
+    // (Γ/σ_W, its name as the script prints it with {:g})
+    for (ratio, tag) in [(1e-2, "0.01"), (1.0, "1"), (1e2, "100")] {
         let gamma = ratio * sw_mev * 1e-3;
         let line = Line {
             m,
@@ -49,7 +50,7 @@ fn gaussian_spread_of_a_lorentzian_is_the_voigt_profile() {
             let got = smeared.smeared(w);
             assert!(got.converged(), "{got:?}");
             // The integral's target is 1e-8; the Voigt values are good to ~1e-13.
-            let key = format!("r{}_k{k}", fmt_g(ratio));
+            let key = format!("r{tag}_k{k}");
             assert_rel(
                 &format!("smeared Γ/σ_W = {ratio}, W = M + {k}σ_W"),
                 got.value,
@@ -57,15 +58,6 @@ fn gaussian_spread_of_a_lorentzian_is_the_voigt_profile() {
                 1e-7,
             );
         }
-    }
-}
-
-/// Python's `{:g}` for the three ratios.
-fn fmt_g(r: f64) -> String {
-    match r {
-        x if x == 1e-2 => "0.01".into(),
-        x if x == 1.0 => "1".into(),
-        _ => "100".into(),
     }
 }
 
