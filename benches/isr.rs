@@ -4,6 +4,7 @@
 use criterion::{Criterion, criterion_group, criterion_main};
 use radnorm::isr::{Cuts, Isr, Scheme};
 use radnorm::process::FermionPair;
+use radnorm::vp::{Dressed, Vp};
 use std::hint::black_box;
 
 fn isr(c: &mut Criterion) {
@@ -19,5 +20,16 @@ fn isr(c: &mut Criterion) {
     });
 }
 
-criterion_group!(benches, isr);
+fn isr_vp(c: &mut Criterion) {
+    let half = Isr::new(Scheme::KuraevFadin2, Cuts::NONE.with_x_max(0.5).unwrap());
+    for (name, vp) in [("leptonic", Vp::leptonic()), ("full", Vp::full())] {
+        let dressed = Dressed::new(FermionPair::muon(), vp);
+        c.bench_function(
+            &format!("isr mumu kf2 x_max=0.5 sqrt_s=10, {name} VP (target <= 3 us)"),
+            |b| b.iter(|| half.observe(&dressed, black_box(100.0)).unwrap().sigma_nb),
+        );
+    }
+}
+
+criterion_group!(benches, isr, isr_vp);
 criterion_main!(benches);

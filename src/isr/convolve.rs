@@ -326,7 +326,7 @@ impl Isr {
         let mut panels = [Panel::Head {
             t_max: ln_t_max.exp(),
             ln_t_max,
-        }; 2 * MAX_PANELS + 2];
+        }; MAX_PIECES * (MAX_PANELS + 1) + 1];
         let mut n = 1;
         let mut a = Break {
             x: x0,
@@ -473,8 +473,14 @@ fn head_end(breaks: &[Break], x_max: f64, threshold_end: bool) -> f64 {
     first.min(HEAD_X_MAX).min(end)
 }
 
-/// Panels in v for x ∈ [a, b]; a panel with two special ends of different kinds is split
-/// at its middle so that each map handles one kind. Returns how many were written.
+/// Longest panel in v = ln(1 − x) one fixed rule is trusted with (a factor e⁴ in s′).
+const MAX_LOG_PANEL: f64 = 4.0;
+/// The most pieces one break-to-break interval is cut into.
+const MAX_PIECES: usize = 8;
+
+/// Panels in v for x ∈ [a, b]: cut into pieces no longer than [`MAX_LOG_PANEL`], and at
+/// least two when the ends are special of different kinds, so that each map handles one
+/// kind. Returns how many were written.
 fn push_log_panels(out: &mut [Panel], a: Break, b: Break) -> usize {
     // v = ln(1 − x) decreases with x: the lower v end is b.
     let (lo, hi) = ((-b.x).ln_1p(), (-a.x).ln_1p());
@@ -483,30 +489,22 @@ fn push_log_panels(out: &mut [Panel], a: Break, b: Break) -> usize {
         (at_lo, at_hi),
         (End::Plain, _) | (_, End::Plain) | (End::Root, End::Root)
     );
-    if compatible {
-        out[0] = Panel::Log {
-            lo,
-            hi,
-            at_lo,
-            at_hi,
+    let by_length = ((hi - lo) / MAX_LOG_PANEL).ceil() as usize;
+    let pieces = by_length
+        .max(if compatible { 1 } else { 2 })
+        .min(MAX_PIECES);
+    let step = (hi - lo) / pieces as f64;
+    for (k, slot) in out[..pieces].iter_mut().enumerate() {
+        let p_lo = lo + k as f64 * step;
+        let p_hi = if k + 1 == pieces { hi } else { p_lo + step };
+        *slot = Panel::Log {
+            lo: p_lo,
+            hi: p_hi,
+            at_lo: if k == 0 { at_lo } else { End::Plain },
+            at_hi: if k + 1 == pieces { at_hi } else { End::Plain },
         };
-        1
-    } else {
-        let mid = 0.5 * (lo + hi);
-        out[0] = Panel::Log {
-            lo,
-            hi: mid,
-            at_lo,
-            at_hi: End::Plain,
-        };
-        out[1] = Panel::Log {
-            lo: mid,
-            hi,
-            at_lo: End::Plain,
-            at_hi,
-        };
-        2
     }
+    pieces
 }
 
 /// The radiated link: σ_obs(s) of the wrapped (dressed) cross-section.
