@@ -169,7 +169,8 @@ impl<C: CrossSection + ?Sized> Integrand<'_, C> {
     #[inline]
     fn log(&self, v: f64) -> f64 {
         let y = v.exp();
-        let x = -v.exp_m1();
+        // 1 − y is exact for y ≤ 1/2 (Sterbenz); nearer x = 0 expm1 keeps the digits.
+        let x = if y <= 0.5 { 1.0 - y } else { -v.exp_m1() };
         let ln_x = x.ln();
         let b = self.rad.beta();
         let f = self.rad.soft_coefficient() * b * ((b - 1.0) * ln_x).exp()
