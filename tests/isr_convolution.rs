@@ -117,6 +117,13 @@ fn agrees_with_mpmath_at_30_digits() {
             want[name],
             VS_MPMATH,
         );
+        // The error estimate is honest: it covers the true error (with f64 rounding, 1e-13).
+        let true_error = (got.sigma_nb - want[name]).abs();
+        assert!(
+            true_error <= got.error_nb + 1e-13 * want[name],
+            "{name}: true error {true_error:e} > estimate {:e}",
+            got.error_nb
+        );
     }
 }
 
