@@ -21,6 +21,7 @@
 //! - [`process`]: Born cross-sections (fermion pairs with γ and Z, Bhabha, γγ, hadrons).
 //! - [`rmodel`]: the R(s) model (resonances, pQCD, user tables) with regional uncertainties.
 //! - [`vp`]: vacuum polarisation Π(q²), running α, the dressing link.
+//! - [`isr`]: radiator schemes, the ISR convolution with cuts, final-state factor, beam spread.
 //! - [`budget`]: uncertainty sources as signed shifts per point, covariance across points.
 //!
 //! ## Units
@@ -39,6 +40,7 @@ pub mod budget;
 pub mod constants;
 pub mod error;
 pub mod io;
+pub mod isr;
 pub mod numeric;
 pub mod process;
 pub mod rmodel;

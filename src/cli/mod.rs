@@ -4,6 +4,7 @@
 
 mod alpha;
 mod born;
+mod isr;
 pub mod output;
 
 use anyhow::{Context, Result, anyhow};
@@ -26,6 +27,8 @@ enum Command {
     Born(born::BornArgs),
     /// Running α at q² (spacelike or timelike): Δα_lep, Δα_had with its uncertainty, 1/α.
     Alpha(alpha::AlphaArgs),
+    /// ISR-corrected (observed) cross-section and 1 + δ with cuts, VP, a radiator scheme.
+    Isr(isr::IsrArgs),
 }
 
 /// Parse the arguments and run the command.
@@ -33,6 +36,7 @@ pub fn run(cli: Cli) -> Result<()> {
     match cli.command {
         Command::Born(args) => born::run(args),
         Command::Alpha(args) => alpha::run(args),
+        Command::Isr(args) => isr::run(args),
     }
 }
 
