@@ -20,6 +20,7 @@
 //! - [`constants`]: physical constants with their sources.
 //! - [`process`]: Born cross-sections (fermion pairs with γ and Z, Bhabha, γγ, hadrons).
 //! - [`vp`]: vacuum polarisation Π(q²), running α, the dressing link.
+//! - [`lumi`]: acceptances, visible Bhabha/γγ/μμ cross-sections with ISR/FSR, counts → luminosity.
 //! - [`budget`]: uncertainty sources as signed shifts per point, covariance across points.
 //!
 //! ## Units
@@ -38,6 +39,7 @@ pub mod budget;
 pub mod constants;
 pub mod error;
 pub mod io;
+pub mod lumi;
 pub mod numeric;
 pub mod process;
 pub mod vp;
