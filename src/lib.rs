@@ -19,6 +19,7 @@
 //! - [`numeric`]: quadrature, substitutions, principal values, Li₂, splines, grids.
 //! - [`constants`]: physical constants with their sources.
 //! - [`process`]: Born cross-sections (fermion pairs with γ and Z, Bhabha, γγ, hadrons).
+//! - [`rmodel`]: the R(s) model (resonances, pQCD, user tables) with regional uncertainties.
 //! - [`vp`]: vacuum polarisation Π(q²), running α, the dressing link.
 //! - [`lumi`]: acceptances, visible Bhabha/γγ/μμ cross-sections with ISR/FSR, counts → luminosity.
 //! - [`budget`]: uncertainty sources as signed shifts per point, covariance across points.
@@ -42,6 +43,7 @@ pub mod io;
 pub mod lumi;
 pub mod numeric;
 pub mod process;
+pub mod rmodel;
 pub mod vp;
 
 pub use error::ParamError;

@@ -5,8 +5,12 @@
 //! complex, evaluated at s + i0, with Im Π(s + i0) = −(α/3) R_total(s).
 
 mod dressed;
+pub mod hadronic;
+pub mod leptonic;
+mod running;
 
 pub use dressed::Dressed;
+pub use running::{Vp, VpChoice, standard_hadronic};
 
 use crate::process::Feature;
 use num_complex::Complex64;
