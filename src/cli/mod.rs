@@ -3,6 +3,7 @@
 //! Only this layer uses clap and anyhow; it does no physics, only calls the library.
 
 mod born;
+mod lumi;
 pub mod output;
 
 use anyhow::{Context, Result, anyhow};
@@ -23,12 +24,15 @@ pub struct Cli {
 enum Command {
     /// Born cross-section of a process at one energy or on a grid.
     Born(born::BornArgs),
+    /// Visible Bhabha (γγ, μμ) cross-section in an acceptance; luminosity from counts.
+    Lumi(lumi::LumiArgs),
 }
 
 /// Parse the arguments and run the command.
 pub fn run(cli: Cli) -> Result<()> {
     match cli.command {
         Command::Born(args) => born::run(args),
+        Command::Lumi(args) => lumi::run(args),
     }
 }
 
