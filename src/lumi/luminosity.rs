@@ -3,8 +3,9 @@
 //! Budget sources (physics notes §5), each a signed shift:
 //! - `statistical` (uncorrelated across runs): √N/(ε σ_vis);
 //! - `efficiency` (correlated): L · δε/ε from the card;
-//! - `theta_min_edges`, `theta_max_edges` (correlated): σ_vis with every θ_min (θ_max) edge
-//!   moved by ± the alignment uncertainty, the symmetric shift (a numerical derivative);
+//! - `acceptance_width` (correlated): σ_vis with every window narrowed / widened by the
+//!   alignment uncertainty δθ at both ends; `acceptance_offset` (correlated): every edge moved
+//!   by ±δθ; each a numerical derivative of σ_vis times δθ (see [`edge_shift`] at kinks);
 //! - `beam_energy` (correlated): σ_vis at √s ± δ√s;
 //! - `vp_<region>` (correlated): σ_vis with one region of the hadronic R model at +1σ minus
 //!   nominal (full VP only);
@@ -91,11 +92,13 @@ pub fn predict<'a>(
         shift_nb: sigma.error_nb,
     }];
     let d = unc.theta_edge_deg;
-    for (name, dmin, dmax) in [("theta_min_edges", d, 0.0), ("theta_max_edges", 0.0, d)] {
+    // Width: every window narrowed by δ at both ends (+) or widened (−); offset: every edge
+    // moved by +δ or −δ.
+    for (name, dmin, dmax) in [("acceptance_width", d, -d), ("acceptance_offset", d, d)] {
         let shift = if d > 0.0 {
             let up = visible.varied(acc.with_edges_moved(dmin, dmax)?, vp, settings)?;
             let down = visible.varied(acc.with_edges_moved(-dmin, -dmax)?, vp, settings)?;
-            symmetric_shift(at(&up, s)?, at(&down, s)?)
+            edge_shift(at(&up, s)? - sigma.sigma_nb, at(&down, s)? - sigma.sigma_nb)
         } else {
             0.0
         };
@@ -152,6 +155,18 @@ pub fn predict<'a>(
         sigma_born_nb,
         shifts,
     })
+}
+
+/// The σ shift of a two-sided edge variation from its one-sided changes `up` and `down`:
+/// the symmetric shift (up − down)/2, unless both sides move σ the same way. Back-to-back
+/// windows make σ a kinked function of an edge when another particle's edge takes over;
+/// there the larger one-sided change is taken, which is the conservative choice.
+fn edge_shift(up: f64, down: f64) -> f64 {
+    if up * down > 0.0 {
+        if up.abs() >= down.abs() { up } else { -down }
+    } else {
+        symmetric_shift(up, down)
+    }
 }
 
 /// One run of the counts file.
