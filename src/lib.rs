@@ -22,6 +22,7 @@
 //! - [`rmodel`]: the R(s) model (resonances, pQCD, user tables) with regional uncertainties.
 //! - [`vp`]: vacuum polarisation Π(q²), running α, the dressing link.
 //! - [`isr`]: radiator schemes, the ISR convolution with cuts, final-state factor, beam spread.
+//! - [`lumi`]: acceptances, visible Bhabha/γγ/μμ cross-sections with ISR/FSR, counts → luminosity.
 //! - [`budget`]: uncertainty sources as signed shifts per point, covariance across points.
 //!
 //! ## Units
@@ -41,6 +42,7 @@ pub mod constants;
 pub mod error;
 pub mod io;
 pub mod isr;
+pub mod lumi;
 pub mod numeric;
 pub mod process;
 pub mod rmodel;

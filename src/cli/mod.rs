@@ -5,6 +5,7 @@
 mod alpha;
 mod born;
 mod isr;
+mod lumi;
 pub mod output;
 
 use anyhow::{Context, Result, anyhow};
@@ -29,6 +30,8 @@ enum Command {
     Alpha(alpha::AlphaArgs),
     /// ISR-corrected (observed) cross-section and 1 + δ with cuts, VP, a radiator scheme.
     Isr(isr::IsrArgs),
+    /// Visible Bhabha (γγ, μμ) cross-section in an acceptance; luminosity from counts.
+    Lumi(lumi::LumiArgs),
 }
 
 /// Parse the arguments and run the command.
@@ -37,6 +40,7 @@ pub fn run(cli: Cli) -> Result<()> {
         Command::Born(args) => born::run(args),
         Command::Alpha(args) => alpha::run(args),
         Command::Isr(args) => isr::run(args),
+        Command::Lumi(args) => lumi::run(args),
     }
 }
 

@@ -1,0 +1,230 @@
+//! `radnorm lumi` end to end: card + counts → JSON rows and summary; bad input → a clear
+//! error naming file, line and field, and no output file.
+
+use assert_cmd::Command;
+use serde_json::Value;
+use std::fs;
+
+const CARD: &str = r#"
+process = "ee"
+vp = "none"
+[acceptance]
+theta_min_deg = 40.0
+theta_max_deg = 140.0
+acol_max_deg = 10.0
+e_min_frac = 0.5
+[uncertainty]
+theta_edge_deg = 0.01
+sqrt_s_gev = 0.005
+efficiency_rel = 0.002
+"#;
+
+const COUNTS: &str = "run,sqrt_s_gev,n_bhabha,n_bhabha_bkg,bhabha_efficiency
+# invented demo scenario
+r1,10.58,120000,1200,0.92
+r2,10.58,80000,900,0.92
+r3,10.0,50000,400,0.90
+";
+
+fn radnorm() -> Command {
+    let mut c = Command::cargo_bin("radnorm").unwrap();
+    c.env_remove("RUST_BACKTRACE");
+    c
+}
+
+#[test]
+fn luminosity_table_follows_the_contract() {
+    let dir = tempfile::tempdir().unwrap();
+    let (card, data) = (dir.path().join("lumi.toml"), dir.path().join("counts.csv"));
+    fs::write(&card, CARD).unwrap();
+    fs::write(&data, COUNTS).unwrap();
+    let out = radnorm()
+        .args([
+            "lumi",
+            "--card",
+            card.to_str().unwrap(),
+            "--data",
+            data.to_str().unwrap(),
+            "--format",
+            "json",
+        ])
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let rows = v["rows"].as_array().unwrap();
+    assert_eq!(rows.len(), 3);
+    let mut total = 0.0;
+    for r in rows {
+        // L = (N − N_bkg)/(ε σ_vis) (physics notes §5) from the row's own inputs.
+        let l = r["luminosity_nb_inv"].as_f64().unwrap();
+        let want = (r["n_bhabha"].as_f64().unwrap() - r["n_bhabha_bkg"].as_f64().unwrap())
+            / (r["bhabha_efficiency"].as_f64().unwrap() * r["sigma_vis_nb"].as_f64().unwrap());
+        assert!((l / want - 1.0).abs() < 1e-12, "{r}");
+        // Statistics √N/(ε σ_vis).
+        let stat = r["luminosity_stat_nb_inv"].as_f64().unwrap();
+        let want = r["n_bhabha"].as_f64().unwrap().sqrt()
+            / (r["bhabha_efficiency"].as_f64().unwrap() * r["sigma_vis_nb"].as_f64().unwrap());
+        assert!((stat / want - 1.0).abs() < 1e-12);
+        assert!(r["luminosity_syst_nb_inv"].as_f64().unwrap() > 0.0);
+        assert!(r["budget"]["rc_scale_nb_inv"].is_number());
+        total += l;
+    }
+    // Runs at one energy share σ_vis (computed once per distinct energy).
+    assert_eq!(rows[0]["sigma_vis_nb"], rows[1]["sigma_vis_nb"]);
+    let s = &v["summary"];
+    assert!((s["luminosity_nb_inv"].as_f64().unwrap() / total - 1.0).abs() < 1e-12);
+    assert_eq!(s["runs"].as_i64(), Some(3));
+    assert_eq!(s["energies"].as_i64(), Some(2));
+    // Correlated systematics add linearly over runs: the summed correlated part exceeds the
+    // quadrature sum of the per-run ones.
+    let cor = s["luminosity_correlated_unc_nb_inv"].as_f64().unwrap();
+    let quad: f64 = rows
+        .iter()
+        .map(|r| {
+            r["luminosity_correlated_unc_nb_inv"]
+                .as_f64()
+                .unwrap()
+                .powi(2)
+        })
+        .sum::<f64>()
+        .sqrt();
+    assert!(cor > quad);
+    // pb⁻¹ on request: keys renamed and values ÷1000.
+    let out = radnorm()
+        .args([
+            "lumi",
+            "--card",
+            card.to_str().unwrap(),
+            "--data",
+            data.to_str().unwrap(),
+            "--format",
+            "json",
+            "--units",
+            "pb",
+        ])
+        .output()
+        .unwrap();
+    let p: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let lp = p["rows"][0]["luminosity_pb_inv"].as_f64().unwrap();
+    assert!((lp * 1e3 / rows[0]["luminosity_nb_inv"].as_f64().unwrap() - 1.0).abs() < 1e-12);
+}
+
+#[test]
+fn sigma_vis_point_with_flags_only() {
+    let out = radnorm()
+        .args([
+            "lumi",
+            "--process",
+            "gg",
+            "--sqrt-s",
+            "10",
+            "--theta-min-deg",
+            "40",
+            "--theta-max-deg",
+            "140",
+            "--born-only",
+            "--format",
+            "json",
+        ])
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    // Born only: σ_vis equals its Born value, (2πα²/s)[ln((1+c)/(1−c)) − c] (physics notes §1).
+    let c = 40f64.to_radians().cos();
+    let alpha = 1.0 / 137.035_999_177;
+    let want = 2.0 * std::f64::consts::PI * alpha * alpha / 100.0
+        * (((1.0 + c) / (1.0 - c)).ln() - c)
+        * 0.389_379_372_1e6;
+    assert!((v["sigma_vis_nb"].as_f64().unwrap() / want - 1.0).abs() < 1e-12);
+    assert_eq!(v["sigma_vis_nb"], v["sigma_vis_born_nb"]);
+}
+
+#[test]
+fn bad_input_names_file_line_field_and_writes_nothing() {
+    let dir = tempfile::tempdir().unwrap();
+    let (card, out) = (dir.path().join("lumi.toml"), dir.path().join("out.json"));
+    fs::write(&card, CARD).unwrap();
+    let cases = [
+        (
+            "r1,10.58,100,1,0.9\nr1,10.58,100,1,0.9\n",
+            "line 3, field run",
+        ),
+        ("r1,10.58,100,101,0.9\n", "field n_bhabha_bkg"),
+        ("r1,10.58,100,1,1.5\n", "field bhabha_efficiency"),
+        ("r1,10.58,-100,1,0.9\n", "field n_bhabha"),
+    ];
+    for (body, needle) in cases {
+        let data = dir.path().join("counts.csv");
+        fs::write(
+            &data,
+            format!("run,sqrt_s_gev,n_bhabha,n_bhabha_bkg,bhabha_efficiency\n{body}"),
+        )
+        .unwrap();
+        let o = radnorm()
+            .args([
+                "lumi",
+                "--card",
+                card.to_str().unwrap(),
+                "--data",
+                data.to_str().unwrap(),
+                "--out",
+                out.to_str().unwrap(),
+            ])
+            .output()
+            .unwrap();
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert!(
+            !o.status.success() && err.contains(needle) && err.contains("counts.csv"),
+            "{body}: {err}"
+        );
+        assert!(!out.exists(), "partial output after: {body}");
+    }
+    // √s on the command line that differs from a run's.
+    let data = dir.path().join("counts.csv");
+    fs::write(&data, COUNTS).unwrap();
+    let o = radnorm()
+        .args([
+            "lumi",
+            "--card",
+            card.to_str().unwrap(),
+            "--data",
+            data.to_str().unwrap(),
+            "--sqrt-s",
+            "10.58",
+        ])
+        .output()
+        .unwrap();
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        !o.status.success() && err.contains("line 5, field sqrt_s_gev"),
+        "{err}"
+    );
+    // Reversed θ window from a flag: the key and the flag are named.
+    let o = radnorm()
+        .args([
+            "lumi",
+            "--card",
+            card.to_str().unwrap(),
+            "--sqrt-s",
+            "10",
+            "--theta-min-deg",
+            "150",
+        ])
+        .output()
+        .unwrap();
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        !o.status.success() && err.contains("theta_max_deg") && err.contains("--theta-max-deg"),
+        "{err}"
+    );
+}
