@@ -20,6 +20,7 @@
 //! - [`constants`]: physical constants with their sources.
 //! - [`process`]: Born cross-sections (fermion pairs with γ and Z, Bhabha, γγ, hadrons).
 //! - [`vp`]: vacuum polarisation Π(q²), running α, the dressing link.
+//! - [`scan`]: measured scans, the iterative unfolding to dressed and bare cross-sections.
 //! - [`budget`]: uncertainty sources as signed shifts per point, covariance across points.
 //!
 //! ## Units
@@ -40,6 +41,7 @@ pub mod error;
 pub mod io;
 pub mod numeric;
 pub mod process;
+pub mod scan;
 pub mod vp;
 
 pub use error::ParamError;

@@ -2,7 +2,10 @@
 //!
 //! Tolerances live here with the reason for each; assertions print the inputs, the
 //! values and the relative difference, so a failure reads as a sentence.
-#![allow(dead_code, reason = "each integration test uses a different part of this module")]
+#![allow(
+    dead_code,
+    reason = "each integration test uses a different part of this module"
+)]
 
 use std::path::PathBuf;
 use std::process::Command;
@@ -15,7 +18,11 @@ pub const QUADRATURE: f64 = 1e-10;
 /// Assert |got/want − 1| ≤ tol, naming `what`.
 #[track_caller]
 pub fn assert_rel(what: &str, got: f64, want: f64, tol: f64) {
-    let rel = if want == 0.0 { got.abs() } else { (got / want - 1.0).abs() };
+    let rel = if want == 0.0 {
+        got.abs()
+    } else {
+        (got / want - 1.0).abs()
+    };
     assert!(
         rel <= tol && got.is_finite(),
         "{what}: got {got:.15e}, want {want:.15e}, rel {rel:.3e} > {tol:.1e}"
@@ -47,7 +54,9 @@ pub fn python_reference(script: &str, args: &[&str]) -> Option<String> {
     let required = std::env::var("RADNORM_REQUIRE_REFERENCES").is_ok_and(|v| v == "1");
     let out = Command::new("python3").arg(&path).args(args).output();
     let failure = match out {
-        Ok(o) if o.status.success() => return Some(String::from_utf8_lossy(&o.stdout).into_owned()),
+        Ok(o) if o.status.success() => {
+            return Some(String::from_utf8_lossy(&o.stdout).into_owned());
+        }
         Ok(o) => format!(
             "{} exited with {}: {}",
             path.display(),
@@ -59,7 +68,9 @@ pub fn python_reference(script: &str, args: &[&str]) -> Option<String> {
     if required {
         panic!("independent reference unavailable (RADNORM_REQUIRE_REFERENCES=1): {failure}");
     }
-    eprintln!("\n*** SKIPPING independent reference check: {failure}\n*** install tests/requirements.txt to run it\n");
+    eprintln!(
+        "\n*** SKIPPING independent reference check: {failure}\n*** install tests/requirements.txt to run it\n"
+    );
     None
 }
 

@@ -1,0 +1,27 @@
+//! Correcting a measured scan: counts → observed cross-sections → dressed and bare ones,
+//! by iterating the forward chain (physics notes §6), with the uncertainty budget.
+//!
+//! - [`data`]: the scan CSV (one row per energy point).
+//! - [`forward`]: the chain dressed → radiated → smeared, behind the [`Radiation`] trait.
+//! - [`shape`]: the line-shape model through the current points (template + spline).
+//! - [`unfold`]: the iteration and the response matrix.
+//! - [`generate`]: invented scans with seeded Poisson noise (tests, demos).
+
+mod correct;
+pub mod data;
+mod error;
+pub mod forward;
+pub mod generate;
+mod linalg;
+pub mod shape;
+pub mod unfold;
+
+pub use correct::{
+    CorrectedPoint, CorrectedScan, InverseS, LuminositySource, RelativeTerm, ScanPlan, correct_scan,
+};
+pub use data::{LuminosityInput, ScanPoint, parse_scan, read_scan};
+pub use error::ScanError;
+pub use forward::{Cut, ForwardChain, KuraevFadin, NoRadiation, Radiation};
+pub use linalg::Matrix;
+pub use shape::{LineShape, ShapeModel, TemplateResonance};
+pub use unfold::{UnfoldSettings, Unfolded, response, unfold};
