@@ -22,6 +22,7 @@
 //! - [`vp`]: vacuum polarisation Π(q²), running α, the dressing link.
 //! - [`scan`]: measured scans, the iterative unfolding to dressed and bare cross-sections.
 //! - [`budget`]: uncertainty sources as signed shifts per point, covariance across points.
+//! - [`plot`]: SVG plots of line shapes, correction factors and budgets.
 //!
 //! ## Units
 //!
@@ -40,6 +41,7 @@ pub mod constants;
 pub mod error;
 pub mod io;
 pub mod numeric;
+pub mod plot;
 pub mod process;
 pub mod scan;
 pub mod vp;

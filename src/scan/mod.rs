@@ -7,6 +7,7 @@
 //! - [`unfold`]: the iteration and the response matrix.
 //! - [`generate`]: invented scans with seeded Poisson noise (tests, demos).
 
+pub mod card;
 mod correct;
 pub mod data;
 mod error;
@@ -16,6 +17,7 @@ mod linalg;
 pub mod shape;
 pub mod unfold;
 
+pub use card::parse_scan_card;
 pub use correct::{
     CorrectedPoint, CorrectedScan, InverseS, LuminositySource, RelativeTerm, ScanPlan, correct_scan,
 };
