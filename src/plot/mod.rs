@@ -240,7 +240,7 @@ mod tests {
             y_err: vec![0.1, 0.1, 0.1],
             line: false,
         };
-        let svg = series_svg(&axes(), &[s.clone()]).unwrap();
+        let svg = series_svg(&axes(), std::slice::from_ref(&s)).unwrap();
         assert!(svg.starts_with("<svg") && svg.contains("√s [GeV]") && svg.contains("σ [nb]"));
         let mut bad = s;
         bad.y[0] = f64::NAN;
