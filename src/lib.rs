@@ -19,7 +19,9 @@
 //! - [`numeric`]: quadrature, substitutions, principal values, Li₂, splines, grids.
 //! - [`constants`]: physical constants with their sources.
 //! - [`process`]: Born cross-sections (fermion pairs with γ and Z, Bhabha, γγ, hadrons).
+//! - [`rmodel`]: the R(s) model (resonances, pQCD, user tables) with regional uncertainties.
 //! - [`vp`]: vacuum polarisation Π(q²), running α, the dressing link.
+//! - [`isr`]: radiator schemes, the ISR convolution with cuts, final-state factor, beam spread.
 //! - [`scan`]: measured scans, the iterative unfolding to dressed and bare cross-sections.
 //! - [`budget`]: uncertainty sources as signed shifts per point, covariance across points.
 //! - [`plot`]: SVG plots of line shapes, correction factors and budgets.
@@ -40,9 +42,11 @@ pub mod budget;
 pub mod constants;
 pub mod error;
 pub mod io;
+pub mod isr;
 pub mod numeric;
 pub mod plot;
 pub mod process;
+pub mod rmodel;
 pub mod scan;
 pub mod vp;
 

@@ -10,6 +10,7 @@ use radnorm::process::{
     Angular, Bhabha, ConstantR, CosRange, CrossSection, Diphoton, FermionPair, Hadrons, RRatio,
     WidthScheme, ZExchange,
 };
+use radnorm::rmodel::RModel;
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
 pub enum ProcessName {
@@ -72,7 +73,7 @@ pub struct BornArgs {
     /// Also report dσ/dcosθ of the first final particle at this cosθ.
     #[arg(long, value_name = "C", allow_negative_numbers = true)]
     cos_theta: Option<f64>,
-    /// A constant R ratio for hadrons (σ = σ_pt·R).
+    /// A constant R ratio for hadrons (σ = σ_pt·R) instead of the default R model.
     #[arg(long, value_name = "R")]
     r_const: Option<f64>,
     #[command(flatten)]
@@ -139,16 +140,20 @@ pub fn run(args: BornArgs) -> Result<()> {
             Box::new(b)
         }
         ProcessName::Gg => Box::new(Diphoton::new(range)),
-        ProcessName::Hadrons => {
-            let Some(r) = args.r_const else {
-                bail!("--process hadrons: give the R ratio with --r-const R (e.g. 2.2)");
-            };
-            if !(r >= 0.0 && r.is_finite()) {
-                bail!("--r-const {r}: not allowed; allowed: a finite R ≥ 0");
+        ProcessName::Hadrons => match args.r_const {
+            Some(r) => {
+                if !(r >= 0.0 && r.is_finite()) {
+                    bail!("--r-const {r}: not allowed; allowed: a finite R ≥ 0");
+                }
+                notes.push(format!("R model: {}", ConstantR(r).describe()));
+                Box::new(Hadrons::new(ConstantR(r)))
             }
-            notes.push(format!("R model: {}", ConstantR(r).describe()));
-            Box::new(Hadrons::new(ConstantR(r)))
-        }
+            None => {
+                let model = RModel::standard();
+                notes.push(format!("R model: {} (bare R)", model.describe()));
+                Box::new(Hadrons::new(model))
+            }
+        },
     };
     if z.is_some() && matches!(args.process, ProcessName::Gg | ProcessName::Hadrons) {
         bail!("--z: applies to mumu, tautau and ee only");
@@ -197,3 +202,4 @@ impl AngularProcess for FermionPair {
 impl AngularProcess for Bhabha {}
 impl AngularProcess for Diphoton {}
 impl AngularProcess for Hadrons<ConstantR> {}
+impl AngularProcess for Hadrons<RModel> {}

@@ -2,7 +2,9 @@
 //!
 //! Only this layer uses clap and anyhow; it does no physics, only calls the library.
 
+mod alpha;
 mod born;
+mod isr;
 pub mod output;
 
 use anyhow::{Context, Result, anyhow};
@@ -23,12 +25,18 @@ pub struct Cli {
 enum Command {
     /// Born cross-section of a process at one energy or on a grid.
     Born(born::BornArgs),
+    /// Running α at q² (spacelike or timelike): Δα_lep, Δα_had with its uncertainty, 1/α.
+    Alpha(alpha::AlphaArgs),
+    /// ISR-corrected (observed) cross-section and 1 + δ with cuts, VP, a radiator scheme.
+    Isr(isr::IsrArgs),
 }
 
 /// Parse the arguments and run the command.
 pub fn run(cli: Cli) -> Result<()> {
     match cli.command {
         Command::Born(args) => born::run(args),
+        Command::Alpha(args) => alpha::run(args),
+        Command::Isr(args) => isr::run(args),
     }
 }
 

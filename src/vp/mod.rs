@@ -3,10 +3,21 @@
 //! Convention (one for the whole code base): α(q²) = α/(1 − Π(q²)), Π(0) = 0,
 //! Δα(q²) = Re Π(q²) > 0 at large |q²|. For timelike q² = s above a threshold Π is
 //! complex, evaluated at s + i0, with Im Π(s + i0) = −(α/3) R_total(s).
+//!
+//! - [`leptonic`]: Π_ℓ for e, μ, τ (one loop exact, two and three loops);
+//! - [`hadronic`]: Π_had by the dispersion relation over an [`crate::rmodel::RModel`],
+//!   tabulated once per model, with its uncertainty budget per region;
+//! - [`Vp`]: the choice none / leptonic / full that later layers take
+//!   ([`standard_hadronic`] shares the default table across the process);
+//! - [`Dressed`]: the link σ·|1 − Π(s)|⁻² of the chain.
 
 mod dressed;
+pub mod hadronic;
+pub mod leptonic;
+mod running;
 
 pub use dressed::Dressed;
+pub use running::{Vp, VpChoice, standard_hadronic};
 
 use crate::process::Feature;
 use num_complex::Complex64;

@@ -1,0 +1,258 @@
+//! `radnorm isr`: the ISR-corrected (observed) cross-section and 1 + δ at one energy or
+//! on a grid, with cuts, a VP choice, a radiator scheme and a beam-energy spread.
+
+use anyhow::{Result, anyhow, bail};
+use clap::{Args, ValueEnum};
+use rayon::prelude::*;
+
+use super::output::{OutputArgs, Report, Row, emit};
+use super::{flag_error, parse_energy_grid};
+use radnorm::isr::{Cuts, Isr, IsrError, Radiated, Scheme, Smeared, schwinger_factor};
+use radnorm::process::{ConstantR, CrossSection, FermionPair, Hadrons, RRatio};
+use radnorm::rmodel::RModel;
+use radnorm::vp::{Dressed, Polarisation, Vp, VpChoice};
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum IsrProcess {
+    /// e⁺e⁻ → μ⁺μ⁻
+    Mumu,
+    /// e⁺e⁻ → τ⁺τ⁻
+    Tautau,
+    /// e⁺e⁻ → hadrons (the default R model, or --r-const)
+    Hadrons,
+}
+
+impl IsrProcess {
+    fn key(self) -> &'static str {
+        match self {
+            IsrProcess::Mumu => "mumu",
+            IsrProcess::Tautau => "tautau",
+            IsrProcess::Hadrons => "hadrons",
+        }
+    }
+}
+
+/// Radiator schemes by our short names.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum RadiatorName {
+    /// Kuraev–Fadin O(β²) (Sov. J. Nucl. Phys. 41 (1985) 466), the default
+    Kf2,
+    /// first-order exponentiated (the O(β) truncation of Kuraev–Fadin)
+    Exp1,
+    /// exponentiated leading-log structure-function form (Nicrosini–Trentadue 1987)
+    Sfll,
+}
+
+impl RadiatorName {
+    fn scheme(self) -> Scheme {
+        match self {
+            RadiatorName::Kf2 => Scheme::KuraevFadin2,
+            RadiatorName::Exp1 => Scheme::Exponentiated1,
+            RadiatorName::Sfll => Scheme::StructureFunctionLl,
+        }
+    }
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum VpName {
+    /// no vacuum polarisation (σ_dressed = σ_born)
+    None,
+    /// leptonic Π (e, μ, τ)
+    Lep,
+    /// leptonic + hadronic Π (default R model)
+    Full,
+}
+
+#[derive(Debug, Args)]
+#[command(
+    after_help = "Example:\n  radnorm isr --process mumu --sqrt-s 2:12:6 --x-max 0.5 --compare-radiators --format csv"
+)]
+pub struct IsrArgs {
+    /// The process (ISR of a single s-channel annihilation).
+    #[arg(long, value_enum)]
+    process: IsrProcess,
+    /// Centre-of-mass energy in GeV: a value or a grid start:stop:count (ends included).
+    #[arg(long, value_name = "GEV")]
+    sqrt_s: String,
+    /// Upper limit on x = 1 − s′/s, 0 < x ≤ 1 (default: the kinematic limit).
+    #[arg(long, value_name = "X")]
+    x_max: Option<f64>,
+    /// Minimum final-state invariant mass √s′ in GeV.
+    #[arg(long, value_name = "GEV")]
+    min_mass_gev: Option<f64>,
+    /// Maximum ISR photon energy in the centre-of-mass frame, GeV (x ≤ 2E/√s).
+    #[arg(long, value_name = "GEV")]
+    max_photon_gev: Option<f64>,
+    /// Radiator scheme.
+    #[arg(long, value_enum, default_value_t = RadiatorName::Kf2)]
+    radiator: RadiatorName,
+    /// Vacuum polarisation in σ_dressed.
+    #[arg(long, value_enum, default_value_t = VpName::Full)]
+    vp: VpName,
+    /// Gaussian centre-of-mass energy spread σ_W in MeV applied after ISR.
+    #[arg(long, value_name = "MEV", allow_negative_numbers = true)]
+    energy_spread_mev: Option<f64>,
+    /// Report the inclusive final-state factor (Schwinger) as fsr_factor (lepton pairs).
+    #[arg(long)]
+    fsr: bool,
+    /// Add every radiator's 1 + δ (nested `radiators`) and their full range (`spread`).
+    #[arg(long)]
+    compare_radiators: bool,
+    /// A constant R ratio for hadrons instead of the default R model.
+    #[arg(long, value_name = "R")]
+    r_const: Option<f64>,
+    #[command(flatten)]
+    output: OutputArgs,
+}
+
+/// Any Born cross-section the command can radiate.
+type Born = Box<dyn CrossSection + Send>;
+
+pub fn run(args: IsrArgs) -> Result<()> {
+    let grid = parse_energy_grid("--sqrt-s", &args.sqrt_s)?;
+    let mut cuts = Cuts::NONE;
+    if let Some(x) = args.x_max {
+        cuts = cuts.with_x_max(x).map_err(flag_error)?;
+    }
+    if let Some(m) = args.min_mass_gev {
+        cuts = cuts.with_min_mass_gev(m).map_err(flag_error)?;
+    }
+    if let Some(e) = args.max_photon_gev {
+        cuts = cuts.with_max_photon_gev(e).map_err(flag_error)?;
+    }
+    let spread_mev = args.energy_spread_mev.unwrap_or(0.0);
+    if !(spread_mev >= 0.0 && spread_mev.is_finite()) {
+        bail!("--energy-spread-mev {spread_mev}: not allowed; allowed: a finite spread ≥ 0 MeV");
+    }
+    if args.r_const.is_some() && args.process != IsrProcess::Hadrons {
+        bail!("--r-const: applies to --process hadrons only");
+    }
+    let fsr_factor = match (args.fsr, args.process) {
+        (false, _) => None,
+        (true, IsrProcess::Hadrons) => bail!(
+            "--fsr: the inclusive final-state factor is offered for lepton pairs (mumu, tautau) only"
+        ),
+        (true, _) => Some(schwinger_factor(-1.0)),
+    };
+
+    let mut notes = vec![format!("process {}", args.process.key())];
+    let born: Born = match args.process {
+        IsrProcess::Mumu => Box::new(FermionPair::muon()),
+        IsrProcess::Tautau => Box::new(FermionPair::tau()),
+        IsrProcess::Hadrons => match args.r_const {
+            Some(r) if r >= 0.0 && r.is_finite() => {
+                notes.push(format!("R model: {}", ConstantR(r).describe()));
+                Box::new(Hadrons::new(ConstantR(r)))
+            }
+            Some(r) => bail!("--r-const {r}: not allowed; allowed: a finite R ≥ 0"),
+            None => {
+                let model = RModel::standard();
+                notes.push(format!("R model: {}", model.describe()));
+                Box::new(Hadrons::new(model))
+            }
+        },
+    };
+    let vp = Vp::from_choice(match args.vp {
+        VpName::None => VpChoice::None,
+        VpName::Lep => VpChoice::Leptonic,
+        VpName::Full => VpChoice::Full,
+    });
+    notes.push(vp.describe());
+    let dressed = Dressed::new(born, vp);
+    let scheme = args.radiator.scheme();
+    let isr = Isr::new(scheme, cuts);
+    notes.push(format!("radiator {}: {}", scheme.key(), scheme.describe()));
+    notes.push(
+        "one_plus_delta = sigma_obs/sigma_dressed; vp_factor = sigma_dressed/sigma_born; x = 1 - s'/s; ISR accuracy target 1e-8 relative".into(),
+    );
+    if let Some(f) = fsr_factor {
+        notes.push(format!(
+            "fsr_factor = 1 + 3 alpha/(4 pi) (Schwinger, massless, inclusive) = {f:.10}; not included in sigma_obs or one_plus_delta"
+        ));
+    }
+    if spread_mev > 0.0 {
+        notes.push(format!(
+            "sigma_obs includes a Gaussian centre-of-mass spread of {spread_mev} MeV; sigma_radiated_nb is before it"
+        ));
+    }
+    notes.push(format!("constants: {}", radnorm::constants::EDITIONS));
+
+    let point = |sqrt_s: f64| -> Result<Row> {
+        let s = sqrt_s * sqrt_s;
+        let observed = isr.observe(&dressed, s).map_err(|e| isr_error(e, &args))?;
+        let sigma_dressed = dressed.sigma_nb(s);
+        let ratio = |obs: f64| {
+            if sigma_dressed > 0.0 {
+                obs / sigma_dressed
+            } else {
+                0.0
+            }
+        };
+        let sigma_obs = if spread_mev > 0.0 {
+            let smeared =
+                Smeared::new(Radiated::new(&dressed, isr), spread_mev).map_err(flag_error)?;
+            smeared.smeared(sqrt_s).value
+        } else {
+            observed.sigma_nb
+        };
+        let mut row = Row::new()
+            .text("process", args.process.key())
+            .num("sqrt_s_gev", sqrt_s)
+            .num("sigma_born_nb", dressed.born().sigma_nb(s))
+            .num("sigma_dressed_nb", sigma_dressed)
+            .num("sigma_obs_nb", sigma_obs)
+            .num("one_plus_delta", ratio(sigma_obs))
+            .num("vp_factor", dressed.vp_factor(s))
+            .text("radiator", scheme.key())
+            .num("x_max", observed.x_max)
+            .num("isr_integration_error_nb", observed.error_nb);
+        if spread_mev > 0.0 {
+            row = row
+                .num("energy_spread_mev", spread_mev)
+                .num("sigma_radiated_nb", observed.sigma_nb);
+        }
+        if let Some(f) = fsr_factor {
+            row = row.num("fsr_factor", f);
+        }
+        if args.compare_radiators {
+            let mut nested = Row::new();
+            let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
+            for other in Scheme::ALL {
+                let o = isr
+                    .with_scheme(other)
+                    .observe(&dressed, s)
+                    .map_err(|e| isr_error(e, &args))?;
+                let r = ratio(o.sigma_nb);
+                lo = lo.min(r);
+                hi = hi.max(r);
+                nested = nested.num(other.key(), r);
+            }
+            row = row.nested("radiators", nested).num("spread", hi - lo);
+        }
+        Ok(row)
+    };
+    let rows = grid
+        .points()
+        .par_iter()
+        .map(|&e| point(e))
+        .collect::<Result<Vec<Row>>>()?;
+    let mut report = Report::new(rows);
+    for n in notes {
+        report = report.note(n);
+    }
+    emit(report, &args.output, &[], grid.is_single())
+}
+
+/// An ISR error in the words of the command line.
+fn isr_error(e: IsrError, args: &IsrArgs) -> anyhow::Error {
+    match e {
+        IsrError::MinMassAboveEnergy {
+            min_mass_gev,
+            sqrt_s_gev,
+        } => anyhow!(
+            "--min-mass-gev {min_mass_gev}: not allowed at --sqrt-s {sqrt_s_gev}; allowed: a minimum mass below sqrt(s) (grid {})",
+            args.sqrt_s
+        ),
+        other => anyhow!("{other}"),
+    }
+}
