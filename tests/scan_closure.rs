@@ -6,11 +6,12 @@ mod common;
 
 use radnorm::budget::Kind;
 use radnorm::constants::sigma_point_nb;
+use radnorm::isr::{Cuts, Scheme};
 use radnorm::process::{ConstantR, CrossSection, Hadrons};
 use radnorm::scan::generate::{PlannedPoint, generate_scan};
 use radnorm::scan::{
-    Cut, ForwardChain, KuraevFadin, LuminositySource, Matrix, ScanPlan, TemplateResonance,
-    UnfoldSettings, correct_scan,
+    ForwardChain, LuminositySource, Matrix, ScanPlan, TemplateResonance, UnfoldSettings,
+    correct_scan,
 };
 use radnorm::vp::NoVp;
 use std::sync::Arc;
@@ -29,11 +30,8 @@ impl<F: Fn(f64) -> f64 + Sync> CrossSection for Truth<F> {
 fn plan(min_mass_gev: f64, resonances: Vec<TemplateResonance>) -> ScanPlan {
     ScanPlan {
         chain: ForwardChain::new(
-            Arc::new(KuraevFadin),
-            Cut {
-                x_max: None,
-                min_mass_gev: Some(min_mass_gev),
-            },
+            Scheme::KuraevFadin2,
+            Cuts::NONE.with_min_mass_gev(min_mass_gev).unwrap(),
         ),
         continuum: Arc::new(Hadrons::new(ConstantR(1.0))),
         vp: Arc::new(NoVp),
@@ -50,6 +48,7 @@ fn plan(min_mass_gev: f64, resonances: Vec<TemplateResonance>) -> ScanPlan {
         energy_spread_mev: 0.0,
         energy_spread_rel: 0.0,
         alternative_radiators: vec![],
+        vp_variations: vec![],
     }
 }
 

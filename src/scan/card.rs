@@ -8,13 +8,13 @@
 //! r_ratio = 2.0             # hadrons: constant R of the continuum template (default 1)
 //!
 //! [radiation]
-//! radiator = "kf2"          # kf2 | none
+//! radiator = "kf2"          # kf2 | exp1 | sfll | none (the ISR layer's schemes)
 //! x_max = 0.9               # optional: largest fraction of s the photons may take
 //! min_mass_gev = 2.7        # optional: smallest final-state invariant mass
-//! compare = []              # alternative radiators, their difference is a budget source
+//! compare = ["exp1"]        # alternative radiators (kf2 | exp1 | sfll), a budget source
 //!
 //! [vp]
-//! model = "none"            # none
+//! model = "full"            # none | leptonic | full (full: region budget from the R model)
 //!
 //! [beam]
 //! energy_unc_mev = 0.1          # centre-of-mass energy uncertainty, common to all points
@@ -45,12 +45,14 @@
 
 use super::ScanError;
 use super::correct::{InverseS, LuminositySource, RelativeTerm, ScanPlan};
-use super::forward::{Cut, ForwardChain, KuraevFadin, NoRadiation, Radiation};
+use super::forward::ForwardChain;
 use super::shape::TemplateResonance;
 use super::unfold::UnfoldSettings;
 use crate::budget::Correlation;
+use crate::isr::{Cuts, Scheme};
 use crate::process::{ConstantR, CrossSection, FermionPair, Hadrons};
-use crate::vp::{Dressed, NoVp, Polarisation};
+use crate::rmodel::Region;
+use crate::vp::{Dressed, Polarisation, Vp, VpChoice};
 use serde::Deserialize;
 use std::sync::Arc;
 
@@ -193,33 +195,62 @@ pub fn parse_scan_card(text: &str, file: &str) -> Result<ScanPlan, ScanError> {
     })
 }
 
-/// The radiator named `name` (the card's and the command line's short names).
+/// The radiator scheme named `name` (the ISR layer's short names; `none` is no radiation).
 ///
 /// # Errors
 /// An unknown name, naming `key` and the allowed names.
-pub fn radiator_by_name(key: &str, name: &str) -> Result<Arc<dyn Radiation>, ScanError> {
-    match name {
-        "kf2" => Ok(Arc::new(KuraevFadin)),
-        "none" => Ok(Arc::new(NoRadiation)),
-        other => Err(card_err(
-            key,
-            format!("unknown radiator '{other}'; allowed: kf2, none"),
-        )),
+pub fn radiator_by_name(key: &str, name: &str) -> Result<Option<Scheme>, ScanError> {
+    if name == "none" {
+        return Ok(None);
     }
+    Scheme::from_key(name).map(Some).ok_or_else(|| {
+        let keys: Vec<&str> = Scheme::ALL.iter().map(|s| s.key()).collect();
+        card_err(
+            key,
+            format!(
+                "unknown radiator '{name}'; allowed: {}, none",
+                keys.join(", ")
+            ),
+        )
+    })
 }
 
-/// The vacuum-polarisation model named `name`.
+/// The vacuum-polarisation choice named `name` (`none`, `leptonic`, `full`).
 ///
 /// # Errors
 /// An unknown name, naming `key` and the allowed names.
-pub fn vp_by_name(key: &str, name: &str) -> Result<Arc<dyn Polarisation>, ScanError> {
-    match name {
-        "none" => Ok(Arc::new(NoVp)),
-        other => Err(card_err(
-            key,
-            format!("unknown vp model '{other}'; allowed: none"),
-        )),
+pub fn vp_by_name(key: &str, name: &str) -> Result<VpChoice, ScanError> {
+    [VpChoice::None, VpChoice::Leptonic, VpChoice::Full]
+        .into_iter()
+        .find(|c| c.key() == name)
+        .ok_or_else(|| {
+            card_err(
+                key,
+                format!("unknown vp model '{name}'; allowed: none, leptonic, full"),
+            )
+        })
+}
+
+/// The budget variations of a VP choice: for `full`, the default R model with each
+/// region moved by +1σ (the shift is taken as symmetric). Built in parallel.
+pub fn vp_variations(choice: VpChoice) -> Vec<(String, Arc<dyn Polarisation>)> {
+    use rayon::prelude::*;
+    if choice != VpChoice::Full {
+        return Vec::new();
     }
+    [
+        Region::PiPi,
+        Region::OmegaPhi,
+        Region::Inclusive,
+        Region::Pqcd,
+        Region::Narrow,
+    ]
+    .par_iter()
+    .map(|&r| {
+        let vp: Arc<dyn Polarisation> = Arc::new(Vp::full_varied(r, 1.0));
+        (format!("vp:{}", r.key()), vp)
+    })
+    .collect()
 }
 
 /// The Born process named `name` (R only for hadrons).
@@ -280,29 +311,39 @@ impl TryFrom<RawScanCard> for ScanPlan {
             &raw.process.final_state,
             raw.process.r_ratio,
         )?;
-        let vp = vp_by_name("vp.model", raw.vp.model.as_deref().unwrap_or("none"))?;
+        let vp_choice = vp_by_name("vp.model", raw.vp.model.as_deref().unwrap_or("full"))?;
+        let vp: Arc<dyn Polarisation> = Arc::new(Vp::from_choice(vp_choice));
         let continuum: Arc<dyn CrossSection + Send> =
             Arc::new(Dressed::new(born, SharedVp(vp.clone())));
-        let radiation = radiator_by_name(
+        let scheme = radiator_by_name(
             "radiation.radiator",
             raw.radiation.radiator.as_deref().unwrap_or("kf2"),
         )?;
-        let x_max = raw
-            .radiation
-            .x_max
-            .map(|x| in_range("radiation.x_max", x, 0.0, 1.0, true))
-            .transpose()?;
-        let min_mass_gev = raw
-            .radiation
-            .min_mass_gev
-            .map(|m| in_range("radiation.min_mass_gev", m, 0.0, 1e4, true))
-            .transpose()?;
-        let alternative_radiators = raw
-            .radiation
-            .compare
-            .iter()
-            .map(|n| radiator_by_name("radiation.compare", n))
-            .collect::<Result<Vec<_>, _>>()?;
+        let mut cuts = Cuts::NONE;
+        if let Some(x) = raw.radiation.x_max {
+            in_range("radiation.x_max", x, 0.0, 1.0, true)?;
+            cuts = cuts.with_x_max(x)?;
+        }
+        if let Some(m) = raw.radiation.min_mass_gev {
+            in_range("radiation.min_mass_gev", m, 0.0, 1e4, true)?;
+            cuts = cuts.with_min_mass_gev(m)?;
+        }
+        let chain = match scheme {
+            Some(s) => ForwardChain::new(s, cuts),
+            None => ForwardChain::without_radiation(),
+        };
+        let mut alternative_radiators = Vec::new();
+        for n in &raw.radiation.compare {
+            match radiator_by_name("radiation.compare", n)? {
+                Some(s) if Some(s) != scheme => alternative_radiators.push(s),
+                _ => {
+                    return Err(card_err(
+                        "radiation.compare",
+                        format!("'{n}'; allowed: radiator schemes other than the nominal one"),
+                    ));
+                }
+            }
+        }
         let unc = |key: &str, v: Option<f64>, hi: f64| {
             v.map_or(Ok(0.0), |x| in_range(key, x, 0.0, hi, false))
         };
@@ -365,13 +406,7 @@ impl TryFrom<RawScanCard> for ScanPlan {
             },
         };
         Ok(ScanPlan {
-            chain: ForwardChain::new(
-                radiation,
-                Cut {
-                    x_max,
-                    min_mass_gev,
-                },
-            ),
+            chain,
             continuum,
             vp,
             resonances,
@@ -392,6 +427,7 @@ impl TryFrom<RawScanCard> for ScanPlan {
                 1.0,
             )?,
             alternative_radiators,
+            vp_variations: vp_variations(vp_choice),
         })
     }
 }
@@ -408,7 +444,9 @@ mod tests {
             r_ratio = 2.0
             [radiation]
             min_mass_gev = 2.7
-            compare = ["none"]
+            compare = ["exp1"]
+            [vp]
+            model = "none"
             [beam]
             energy_unc_mev = 0.2
             [[resonance]]
@@ -422,7 +460,8 @@ mod tests {
         let plan = parse_scan_card(card, "scan.toml").unwrap();
         assert_eq!(plan.resonances.len(), 1);
         assert_eq!(plan.relative_terms[0].correlation, Correlation::Full);
-        assert_eq!(plan.alternative_radiators[0].name(), "none");
+        assert_eq!(plan.alternative_radiators, vec![Scheme::Exponentiated1]);
+        assert!(plan.vp_variations.is_empty());
         assert_eq!(plan.energy_unc_mev, 0.2);
         for (bad, want) in [
             (

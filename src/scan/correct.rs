@@ -15,13 +15,16 @@
 //! - `energy_spread`: every spread scaled by 1 ± its relative uncertainty, unfolded again.
 //! - `radiator:<name>`: each alternative radiator, unfolded again, shift = alternative −
 //!   nominal (the scheme spread, a theory uncertainty).
+//! - `vp:<region>` (σ_bare only): the hadronic VP with one R-model region at +1σ, through
+//!   the VP factor (the dressed values do not depend on it beyond the template's shape).
 
 use super::ScanError;
 use super::data::{LuminosityInput, ScanPoint};
-use super::forward::{ForwardChain, Radiation};
+use super::forward::ForwardChain;
 use super::shape::{ShapeModel, TemplateResonance};
 use super::unfold::{UnfoldSettings, response, unfold};
 use crate::budget::{Budget, Correlation, Kind, symmetric_shift};
+use crate::isr::Scheme;
 use crate::process::CrossSection;
 use crate::vp::Polarisation;
 use std::sync::Arc;
@@ -114,7 +117,9 @@ pub struct ScanPlan {
     /// Relative uncertainty of every spread.
     pub energy_spread_rel: f64,
     /// Alternative radiators whose difference to the nominal is a budget source.
-    pub alternative_radiators: Vec<Arc<dyn Radiation>>,
+    pub alternative_radiators: Vec<Scheme>,
+    /// Varied VP models (name, model): each moves σ_bare through the VP factor.
+    pub vp_variations: Vec<(String, Arc<dyn Polarisation>)>,
 }
 
 /// One corrected point.
@@ -194,7 +199,7 @@ pub fn correct_scan(plan: &ScanPlan, data: &[ScanPoint]) -> Result<CorrectedScan
     let y = &nominal.sigma_dressed_nb;
 
     // The response matrix, its inverse, and the check that K·y reproduces σ_obs.
-    let k = response(&plan.chain, &model, &spread, 1e-12);
+    let k = response(&plan.chain, &model, &spread);
     let kinv = k
         .inverse()
         .ok_or_else(|| ScanError::Model("the response matrix of the scan is singular".into()))?;
@@ -295,16 +300,12 @@ pub fn correct_scan(plan: &ScanPlan, data: &[ScanPoint]) -> Result<CorrectedScan
             .add("energy_spread", Correlation::Full, shifts)
             .map_err(budget_err)?;
     }
-    for alt in &plan.alternative_radiators {
-        let chain = ForwardChain::new(alt.clone(), plan.chain.cut());
+    for &alt in &plan.alternative_radiators {
+        let chain = plan.chain.with_scheme(alt);
         let (a, _) = unfold_with(&chain, &energies, &spread)?;
         let shifts = (0..n).map(|i| a.sigma_dressed_nb[i] - y[i]).collect();
         b_dressed
-            .add(
-                format!("radiator:{}", alt.name()),
-                Correlation::Full,
-                shifts,
-            )
+            .add(format!("radiator:{}", alt.key()), Correlation::Full, shifts)
             .map_err(budget_err)?;
     }
     // σ_bare = σ_dressed/vp_factor: every dressed shift divided by the point's factor.
@@ -324,6 +325,17 @@ pub fn correct_scan(plan: &ScanPlan, data: &[ScanPoint]) -> Result<CorrectedScan
                 s.correlation,
                 shifts,
             )
+            .map_err(budget_err)?;
+    }
+    for (name, vp) in &plan.vp_variations {
+        let shifts = (0..n)
+            .map(|i| {
+                let f = vp.s_channel_factor(energies[i] * energies[i]).norm_sqr();
+                y[i] / f - y[i] / vp_factor[i]
+            })
+            .collect();
+        b_born
+            .add(name.clone(), Correlation::Full, shifts)
             .map_err(budget_err)?;
     }
     let points = (0..n)

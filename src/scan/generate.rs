@@ -108,10 +108,7 @@ pub fn expected_sigma_obs_nb(
 ) -> Vec<f64> {
     points
         .iter()
-        .map(|p| {
-            let scale = dressed.sigma_nb(p.sqrt_s_gev * p.sqrt_s_gev).abs();
-            chain.observed_nb(dressed, p.sqrt_s_gev, p.energy_spread_mev, 1e-13 * scale)
-        })
+        .map(|p| chain.observed_nb(dressed, p.sqrt_s_gev, p.energy_spread_mev))
         .collect()
 }
 

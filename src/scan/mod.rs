@@ -2,7 +2,7 @@
 //! by iterating the forward chain (physics notes §6), with the uncertainty budget.
 //!
 //! - [`data`]: the scan CSV (one row per energy point).
-//! - [`forward`]: the chain dressed → radiated → smeared, behind the [`Radiation`] trait.
+//! - [`forward`]: the chain dressed → radiated → smeared (the ISR layer's links).
 //! - [`shape`]: the line-shape model through the current points (template + spline).
 //! - [`unfold`]: the iteration and the response matrix.
 //! - [`generate`]: invented scans with seeded Poisson noise (tests, demos).
@@ -23,7 +23,7 @@ pub use correct::{
 };
 pub use data::{LuminosityInput, ScanPoint, parse_scan, read_scan};
 pub use error::ScanError;
-pub use forward::{Cut, ForwardChain, KuraevFadin, NoRadiation, Radiation};
+pub use forward::ForwardChain;
 pub use linalg::Matrix;
 pub use shape::{LineShape, ShapeModel, TemplateResonance};
 pub use unfold::{UnfoldSettings, Unfolded, response, unfold};

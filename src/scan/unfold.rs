@@ -46,19 +46,13 @@ pub struct Unfolded {
 }
 
 /// The chain applied to the line shape through `y`, at every scan point (in parallel).
-fn forward(
-    chain: &ForwardChain,
-    model: &ShapeModel,
-    spread_mev: &[f64],
-    y: &[f64],
-    abs_tol_nb: f64,
-) -> Vec<f64> {
+fn forward(chain: &ForwardChain, model: &ShapeModel, spread_mev: &[f64], y: &[f64]) -> Vec<f64> {
     let shape = model.through(y);
     model
         .sqrt_s_gev()
         .par_iter()
         .zip(spread_mev)
-        .map(|(&e, &w)| chain.observed_nb(&shape, e, w, abs_tol_nb))
+        .map(|(&e, &w)| chain.observed_nb(&shape, e, w))
         .collect()
 }
 
@@ -75,12 +69,10 @@ pub fn unfold(
     sigma_obs_nb: &[f64],
     settings: UnfoldSettings,
 ) -> Result<Unfolded, ScanError> {
-    let scale = sigma_obs_nb.iter().fold(0.0f64, |m, v| m.max(v.abs()));
-    let abs_tol = 1e-3 * settings.tolerance * scale;
     let mut y = sigma_obs_nb.to_vec();
     let mut last_change = f64::INFINITY;
     for iteration in 1..=settings.max_iterations {
-        let obs = forward(chain, model, spread_mev, &y, abs_tol);
+        let obs = forward(chain, model, spread_mev, &y);
         let mut change = 0.0f64;
         let mut next = Vec::with_capacity(y.len());
         for i in 0..y.len() {
@@ -100,7 +92,7 @@ pub fn unfold(
         y = next;
         last_change = change;
         if change < settings.tolerance {
-            let obs = forward(chain, model, spread_mev, &y, abs_tol);
+            let obs = forward(chain, model, spread_mev, &y);
             let one_plus_delta = obs.iter().zip(&y).map(|(o, v)| o / v).collect();
             return Ok(Unfolded {
                 sigma_dressed_nb: y,
@@ -118,13 +110,8 @@ pub fn unfold(
 }
 
 /// The response matrix Kᵢⱼ = σ_obs[L(eⱼ)](sᵢ): the observed σ at point i per nb of dressed
-/// σ at point j (dimensionless). `abs_tol` is the absolute accuracy of each element.
-pub fn response(
-    chain: &ForwardChain,
-    model: &ShapeModel,
-    spread_mev: &[f64],
-    abs_tol: f64,
-) -> Matrix {
+/// σ at point j (dimensionless).
+pub fn response(chain: &ForwardChain, model: &ShapeModel, spread_mev: &[f64]) -> Matrix {
     let n = model.sqrt_s_gev().len();
     let columns: Vec<Vec<f64>> = (0..n)
         .into_par_iter()
@@ -136,7 +123,7 @@ pub fn response(
                 .sqrt_s_gev()
                 .iter()
                 .zip(spread_mev)
-                .map(|(&e, &w)| chain.observed_nb(&shape, e, w, abs_tol))
+                .map(|(&e, &w)| chain.observed_nb(&shape, e, w))
                 .collect()
         })
         .collect();
