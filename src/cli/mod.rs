@@ -4,6 +4,7 @@
 
 mod alpha;
 mod born;
+mod correct;
 mod isr;
 pub mod output;
 
@@ -29,6 +30,8 @@ enum Command {
     Alpha(alpha::AlphaArgs),
     /// ISR-corrected (observed) cross-section and 1 + δ with cuts, VP, a radiator scheme.
     Isr(isr::IsrArgs),
+    /// Correct a measured scan: Born and dressed cross-sections with their budget.
+    Correct(correct::CorrectArgs),
 }
 
 /// Parse the arguments and run the command.
@@ -37,6 +40,7 @@ pub fn run(cli: Cli) -> Result<()> {
         Command::Born(args) => born::run(args),
         Command::Alpha(args) => alpha::run(args),
         Command::Isr(args) => isr::run(args),
+        Command::Correct(args) => correct::run(args),
     }
 }
 
