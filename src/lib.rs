@@ -23,7 +23,9 @@
 //! - [`vp`]: vacuum polarisation Π(q²), running α, the dressing link.
 //! - [`isr`]: radiator schemes, the ISR convolution with cuts, final-state factor, beam spread.
 //! - [`lumi`]: acceptances, visible Bhabha/γγ/μμ cross-sections with ISR/FSR, counts → luminosity.
+//! - [`scan`]: measured scans, the iterative unfolding to dressed and bare cross-sections.
 //! - [`budget`]: uncertainty sources as signed shifts per point, covariance across points.
+//! - [`plot`]: SVG plots of line shapes, correction factors and budgets.
 //!
 //! ## Units
 //!
@@ -44,8 +46,10 @@ pub mod io;
 pub mod isr;
 pub mod lumi;
 pub mod numeric;
+pub mod plot;
 pub mod process;
 pub mod rmodel;
+pub mod scan;
 pub mod vp;
 
 pub use error::ParamError;

@@ -26,10 +26,22 @@ impl Correlation {
     }
 }
 
+/// Whether a source is a statistical term or a systematic one (reported as `_stat`/`_syst`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Kind {
+    Statistical,
+    Systematic,
+}
+
 /// One uncertainty source and its shift at every point.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Source {
     pub name: String,
+    /// The reporting group: sources of one group are added in quadrature in per-source
+    /// reports (e.g. the statistical term of each input point, propagated through an
+    /// unfolding, forms the group "stat").
+    pub group: String,
+    pub kind: Kind,
     pub correlation: Correlation,
     /// Signed shift of the output quantity at each point.
     pub shifts: Vec<f64>,
@@ -71,7 +83,7 @@ impl Budget {
         }
     }
 
-    /// Add a source.
+    /// Add a systematic source that forms its own reporting group.
     ///
     /// # Errors
     /// A shift count different from the point count, a non-finite shift, a repeated name.
@@ -82,6 +94,39 @@ impl Budget {
         shifts: Vec<f64>,
     ) -> Result<(), BudgetError> {
         let name = name.into();
+        let group = name.clone();
+        self.add_in_group(name, group, Kind::Systematic, correlation, shifts)
+    }
+
+    /// Add a relative term: the shift at point i is `rel · values[i]` (a luminosity scale,
+    /// an efficiency, a user-declared percentage).
+    ///
+    /// # Errors
+    /// As [`Budget::add`].
+    pub fn add_relative(
+        &mut self,
+        name: impl Into<String>,
+        correlation: Correlation,
+        rel: f64,
+        values: &[f64],
+    ) -> Result<(), BudgetError> {
+        self.add(name, correlation, values.iter().map(|v| rel * v).collect())
+    }
+
+    /// Add a source with an explicit reporting group and kind.
+    ///
+    /// # Errors
+    /// As [`Budget::add`].
+    pub fn add_in_group(
+        &mut self,
+        name: impl Into<String>,
+        group: impl Into<String>,
+        kind: Kind,
+        correlation: Correlation,
+        shifts: Vec<f64>,
+    ) -> Result<(), BudgetError> {
+        let name = name.into();
+        let group = group.into();
         if shifts.len() != self.points {
             return Err(BudgetError::Length {
                 name,
@@ -97,6 +142,8 @@ impl Budget {
         }
         self.sources.push(Source {
             name,
+            group,
+            kind,
             correlation,
             shifts,
         });
@@ -124,11 +171,51 @@ impl Budget {
             .sqrt()
     }
 
+    /// Quadrature sum of the shifts at `point` over the sources of one kind.
+    pub fn kind_at(&self, point: usize, kind: Kind) -> f64 {
+        self.sources
+            .iter()
+            .filter(|s| s.kind == kind)
+            .map(|s| s.shifts[point] * s.shifts[point])
+            .sum::<f64>()
+            .sqrt()
+    }
+
+    /// The reporting groups in the order their first source was added.
+    pub fn groups(&self) -> Vec<&str> {
+        let mut out: Vec<&str> = Vec::new();
+        for s in &self.sources {
+            if !out.contains(&s.group.as_str()) {
+                out.push(&s.group);
+            }
+        }
+        out
+    }
+
+    /// Quadrature sum of the shifts at `point` over the sources of `group`.
+    pub fn group_at(&self, point: usize, group: &str) -> f64 {
+        self.sources
+            .iter()
+            .filter(|s| s.group == group)
+            .map(|s| s.shifts[point] * s.shifts[point])
+            .sum::<f64>()
+            .sqrt()
+    }
+
     /// The covariance matrix across points (row-major, points × points).
     pub fn covariance(&self) -> SymMatrix {
+        self.covariance_of(None)
+    }
+
+    /// The covariance from the sources of one kind only (`None` for all).
+    pub fn covariance_of(&self, kind: Option<Kind>) -> SymMatrix {
         let n = self.points;
         let mut m = SymMatrix::zeros(n);
-        for s in &self.sources {
+        for s in self
+            .sources
+            .iter()
+            .filter(|s| kind.is_none_or(|k| s.kind == k))
+        {
             match s.correlation {
                 Correlation::Full => {
                     for i in 0..n {
@@ -175,6 +262,17 @@ impl SymMatrix {
             n,
             data: vec![0.0; n * n],
         }
+    }
+
+    /// The matrix with elements `f(i, j)`, symmetrised as (f(i, j) + f(j, i))/2.
+    pub fn from_fn(n: usize, f: impl Fn(usize, usize) -> f64) -> Self {
+        let mut m = SymMatrix::zeros(n);
+        for i in 0..n {
+            for j in 0..n {
+                m.data[i * n + j] = 0.5 * (f(i, j) + f(j, i));
+            }
+        }
+        m
     }
 
     pub fn size(&self) -> usize {
@@ -262,6 +360,27 @@ mod tests {
         let (u, k, t) = b.sum_uncertainty();
         assert!((u - 0.5f64.sqrt()).abs() < 1e-15 && (k - 0.1).abs() < 1e-15);
         assert!((t - (0.5f64 + 0.01).sqrt()).abs() < 1e-15);
+    }
+
+    #[test]
+    fn groups_and_kinds_add_in_quadrature() {
+        // Two statistical sources in one group (as an unfolding propagates each input
+        // point's statistics), one relative systematic term.
+        let mut b = Budget::new(2);
+        let st = Kind::Statistical;
+        b.add_in_group("stat[0]", "stat", st, Correlation::Full, vec![3.0, 1.0])
+            .unwrap();
+        b.add_in_group("stat[1]", "stat", st, Correlation::Full, vec![0.0, 4.0])
+            .unwrap();
+        b.add_relative("lumi", Correlation::Full, 0.01, &[100.0, 200.0])
+            .unwrap();
+        assert_eq!(b.groups(), vec!["stat", "lumi"]);
+        assert!((b.group_at(1, "stat") - 17f64.sqrt()).abs() < 1e-15);
+        assert!((b.kind_at(0, Kind::Statistical) - 3.0).abs() < 1e-15);
+        assert!((b.kind_at(1, Kind::Systematic) - 2.0).abs() < 1e-15);
+        // Statistical covariance: 3·1 + 0·4 off the diagonal.
+        let c = b.covariance_of(Some(Kind::Statistical));
+        assert!((c.get(0, 1) - 3.0).abs() < 1e-15 && (c.get(1, 1) - 17.0).abs() < 1e-15);
     }
 
     #[test]

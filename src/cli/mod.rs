@@ -4,6 +4,7 @@
 
 mod alpha;
 mod born;
+mod correct;
 mod isr;
 mod lumi;
 pub mod output;
@@ -32,6 +33,8 @@ enum Command {
     Isr(isr::IsrArgs),
     /// Visible Bhabha (γγ, μμ) cross-section in an acceptance; luminosity from counts.
     Lumi(lumi::LumiArgs),
+    /// Correct a measured scan: Born and dressed cross-sections with their budget.
+    Correct(correct::CorrectArgs),
 }
 
 /// Parse the arguments and run the command.
@@ -41,6 +44,7 @@ pub fn run(cli: Cli) -> Result<()> {
         Command::Alpha(args) => alpha::run(args),
         Command::Isr(args) => isr::run(args),
         Command::Lumi(args) => lumi::run(args),
+        Command::Correct(args) => correct::run(args),
     }
 }
 

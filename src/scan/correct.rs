@@ -1,0 +1,362 @@
+//! A measured scan corrected end to end: counts → σ_obs → unfolded σ_dressed → σ_bare,
+//! with the budget of each quantity.
+//!
+//! Budget sources and how each is propagated:
+//! - `stat` (signal counts, √N) and `luminosity_stat` (monitor counts): uncorrelated in
+//!   σ_obs; through the unfolding each input point's term moves every point it feeds, so
+//!   in σ_dressed and σ_bare they are one fully correlated source per input point
+//!   (δy = K⁻¹ δσ_obs with the response matrix K), grouped for reporting.
+//! - `luminosity_scale`, `efficiency` and user-declared relative terms: a common scale of
+//!   σ_obs, hence the same relative shift of every corrected point (the unfolding is
+//!   linear), fully correlated unless the card says otherwise.
+//! - `beam_energy`: every energy shifted by ±δE, the scan unfolded again, symmetric shift
+//!   of the corrected values at their points (the correction-factor effect; the energy
+//!   uncertainty itself is reported with √s).
+//! - `energy_spread`: every spread scaled by 1 ± its relative uncertainty, unfolded again.
+//! - `radiator:<name>`: each alternative radiator, unfolded again, shift = alternative −
+//!   nominal (the scheme spread, a theory uncertainty).
+//! - `vp:<region>` (σ_bare only): the hadronic VP with one R-model region at +1σ, through
+//!   the VP factor (the dressed values do not depend on it beyond the template's shape).
+
+use super::ScanError;
+use super::data::{LuminosityInput, ScanPoint};
+use super::forward::ForwardChain;
+use super::shape::{ShapeModel, TemplateResonance};
+use super::unfold::{UnfoldSettings, response, unfold};
+use crate::budget::{Budget, Correlation, Kind, symmetric_shift};
+use crate::isr::Scheme;
+use crate::process::CrossSection;
+use crate::vp::Polarisation;
+use std::sync::Arc;
+
+/// A user-declared relative uncertainty of σ_obs.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RelativeTerm {
+    pub name: String,
+    pub rel: f64,
+    pub correlation: Correlation,
+}
+
+/// Where each point's luminosity comes from.
+#[derive(Clone)]
+pub struct LuminositySource {
+    /// The visible cross-section of the luminosity monitor at s, nb, for rows with
+    /// Bhabha counts (`None`: such rows are an error).
+    pub visible: Option<Arc<dyn CrossSection + Send>>,
+    /// A one-line description of `visible` for provenance.
+    pub describe: String,
+}
+
+impl LuminositySource {
+    /// (L, δL_stat) of a point in nb⁻¹.
+    ///
+    /// # Errors
+    /// Bhabha counts without a visible cross-section, or a non-positive σ_vis.
+    pub fn luminosity(&self, p: &ScanPoint) -> Result<(f64, f64), ScanError> {
+        match p.luminosity {
+            LuminosityInput::Given { luminosity_nb_inv } => Ok((luminosity_nb_inv, 0.0)),
+            LuminosityInput::Bhabha {
+                n_events,
+                n_bkg,
+                efficiency,
+            } => {
+                let Some(vis) = &self.visible else {
+                    return Err(ScanError::Model(
+                        "the data give Bhabha counts but the card has no luminosity monitor \
+                         cross-section (luminosity.visible_sigma_times_s_nb_gev2)"
+                            .into(),
+                    ));
+                };
+                let sigma = vis.sigma_nb(p.sqrt_s_gev * p.sqrt_s_gev);
+                if !(sigma > 0.0 && sigma.is_finite()) {
+                    return Err(ScanError::Model(format!(
+                        "visible luminosity cross-section {sigma} nb at sqrt_s_gev = {}",
+                        p.sqrt_s_gev
+                    )));
+                }
+                let l = (n_events - n_bkg) / (efficiency * sigma);
+                Ok((l, l * n_events.sqrt() / (n_events - n_bkg)))
+            }
+        }
+    }
+}
+
+/// A fixed visible cross-section that scales as 1/s: σ_vis(s) = C/s, C in nb GeV² (a
+/// Born-level Bhabha acceptance at fixed angles scales so).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct InverseS {
+    pub nb_gev2: f64,
+}
+
+impl CrossSection for InverseS {
+    fn sigma_nb(&self, s_gev2: f64) -> f64 {
+        self.nb_gev2 / s_gev2
+    }
+}
+
+/// Everything the correction needs besides the data: the validated plan of a run card.
+#[derive(Clone)]
+pub struct ScanPlan {
+    pub chain: ForwardChain,
+    /// The dressed continuum of the process (template φ₀; the model below the lowest point).
+    pub continuum: Arc<dyn CrossSection + Send>,
+    /// The vacuum polarisation whose factor |1 − Π|⁻² separates dressed from bare.
+    pub vp: Arc<dyn Polarisation>,
+    pub resonances: Vec<TemplateResonance>,
+    pub settings: UnfoldSettings,
+    pub luminosity: LuminositySource,
+    /// Relative, fully correlated uncertainty of the luminosity scale (theory, geometry).
+    pub luminosity_scale_rel: f64,
+    /// Relative, fully correlated uncertainty of the efficiencies.
+    pub efficiency_rel: f64,
+    pub relative_terms: Vec<RelativeTerm>,
+    /// Beam (centre-of-mass) energy uncertainty, MeV, common to all points.
+    pub energy_unc_mev: f64,
+    /// The spread for rows that give none, MeV.
+    pub energy_spread_mev: f64,
+    /// Relative uncertainty of every spread.
+    pub energy_spread_rel: f64,
+    /// Alternative radiators whose difference to the nominal is a budget source.
+    pub alternative_radiators: Vec<Scheme>,
+    /// Varied VP models (name, model): each moves σ_bare through the VP factor.
+    pub vp_variations: Vec<(String, Arc<dyn Polarisation>)>,
+}
+
+/// One corrected point.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct CorrectedPoint {
+    pub sqrt_s_gev: f64,
+    pub luminosity_nb_inv: f64,
+    pub energy_spread_mev: f64,
+    pub sigma_obs_nb: f64,
+    pub one_plus_delta: f64,
+    pub sigma_dressed_nb: f64,
+    pub vp_factor: f64,
+    pub sigma_born_nb: f64,
+}
+
+/// The corrected scan and its budgets.
+#[derive(Debug, Clone)]
+pub struct CorrectedScan {
+    pub points: Vec<CorrectedPoint>,
+    pub obs: Budget,
+    pub dressed: Budget,
+    pub born: Budget,
+    pub iterations: usize,
+    pub last_change: f64,
+    /// max |K·σ_dressed − σ_obs|/σ_obs: how well the response matrix reproduces the
+    /// iteration (a check of the linearity the covariance relies on).
+    pub response_residual: f64,
+}
+
+fn budget_err(e: crate::budget::BudgetError) -> ScanError {
+    ScanError::Model(format!("budget: {e}"))
+}
+
+/// Correct a measured scan.
+///
+/// # Errors
+/// Bad luminosity inputs, a template the points cannot fit, an unfolding that does not
+/// converge (for the nominal or any varied chain).
+pub fn correct_scan(plan: &ScanPlan, data: &[ScanPoint]) -> Result<CorrectedScan, ScanError> {
+    let n = data.len();
+    let mut lumi = Vec::with_capacity(n);
+    for p in data {
+        lumi.push(plan.luminosity.luminosity(p)?);
+    }
+    let energies: Vec<f64> = data.iter().map(|p| p.sqrt_s_gev).collect();
+    let spread: Vec<f64> = data
+        .iter()
+        .map(|p| p.energy_spread_mev.unwrap_or(plan.energy_spread_mev))
+        .collect();
+    let obs: Vec<f64> = data
+        .iter()
+        .zip(&lumi)
+        .map(|(p, (l, _))| (p.n_events - p.n_bkg) / (p.efficiency * l))
+        .collect();
+    let obs_stat: Vec<f64> = data
+        .iter()
+        .zip(&lumi)
+        .map(|(p, (l, _))| p.n_events.sqrt() / (p.efficiency * l))
+        .collect();
+    let obs_lumi_stat: Vec<f64> = obs
+        .iter()
+        .zip(&lumi)
+        .map(|(o, (l, dl))| o * dl / l)
+        .collect();
+    let weights: Vec<f64> = obs_stat.iter().map(|d| 1.0 / (d * d)).collect();
+
+    let unfold_with = |chain: &ForwardChain, e: &[f64], w: &[f64]| {
+        let model = ShapeModel::new(
+            plan.continuum.clone(),
+            plan.resonances.clone(),
+            e.to_vec(),
+            &weights,
+        )?;
+        unfold(chain, &model, w, &obs, plan.settings).map(|u| (u, model))
+    };
+    let (nominal, model) = unfold_with(&plan.chain, &energies, &spread)?;
+    let y = &nominal.sigma_dressed_nb;
+
+    // The response matrix, its inverse, and the check that K·y reproduces σ_obs.
+    let k = response(&plan.chain, &model, &spread);
+    let kinv = k
+        .inverse()
+        .ok_or_else(|| ScanError::Model("the response matrix of the scan is singular".into()))?;
+    let response_residual = k
+        .apply(y)
+        .iter()
+        .zip(&obs)
+        .map(|(a, b)| (a / b - 1.0).abs())
+        .fold(0.0, f64::max);
+
+    let vp_factor: Vec<f64> = energies
+        .iter()
+        .map(|e| plan.vp.s_channel_factor(e * e).norm_sqr())
+        .collect();
+    let mut b_obs = Budget::new(n);
+    let mut b_dressed = Budget::new(n);
+    let statistical = [("stat", &obs_stat), ("luminosity_stat", &obs_lumi_stat)];
+    for (group, delta) in statistical {
+        if delta.iter().all(|d| *d == 0.0) {
+            continue;
+        }
+        b_obs
+            .add_in_group(
+                group,
+                group,
+                Kind::Statistical,
+                Correlation::None,
+                delta.clone(),
+            )
+            .map_err(budget_err)?;
+        for (j, dj) in delta.iter().enumerate() {
+            let shifts = (0..n).map(|i| kinv.get(i, j) * dj).collect();
+            b_dressed
+                .add_in_group(
+                    format!("{group}[{j}]"),
+                    group,
+                    Kind::Statistical,
+                    Correlation::Full,
+                    shifts,
+                )
+                .map_err(budget_err)?;
+        }
+    }
+    let mut scales = vec![
+        (
+            "luminosity_scale".to_string(),
+            plan.luminosity_scale_rel,
+            Correlation::Full,
+        ),
+        (
+            "efficiency".to_string(),
+            plan.efficiency_rel,
+            Correlation::Full,
+        ),
+    ];
+    scales.extend(
+        plan.relative_terms
+            .iter()
+            .map(|t| (t.name.clone(), t.rel, t.correlation)),
+    );
+    for (name, rel, corr) in scales.into_iter().filter(|s| s.1 > 0.0) {
+        b_obs
+            .add_relative(&name, corr, rel, &obs)
+            .map_err(budget_err)?;
+        b_dressed
+            .add_relative(&name, corr, rel, y)
+            .map_err(budget_err)?;
+    }
+    if plan.energy_unc_mev > 0.0 {
+        let d = plan.energy_unc_mev * 1e-3;
+        let up: Vec<f64> = energies.iter().map(|e| e + d).collect();
+        let down: Vec<f64> = energies.iter().map(|e| e - d).collect();
+        let (u, _) = unfold_with(&plan.chain, &up, &spread)?;
+        let (l, _) = unfold_with(&plan.chain, &down, &spread)?;
+        let shifts = (0..n)
+            .map(|i| symmetric_shift(u.sigma_dressed_nb[i], l.sigma_dressed_nb[i]))
+            .collect();
+        b_dressed
+            .add("beam_energy", Correlation::Full, shifts)
+            .map_err(budget_err)?;
+    }
+    if plan.energy_spread_rel > 0.0 && spread.iter().any(|w| *w > 0.0) {
+        let scaled = |f: f64| spread.iter().map(|w| w * f).collect::<Vec<_>>();
+        let (u, _) = unfold_with(
+            &plan.chain,
+            &energies,
+            &scaled(1.0 + plan.energy_spread_rel),
+        )?;
+        let (l, _) = unfold_with(
+            &plan.chain,
+            &energies,
+            &scaled(1.0 - plan.energy_spread_rel),
+        )?;
+        let shifts = (0..n)
+            .map(|i| symmetric_shift(u.sigma_dressed_nb[i], l.sigma_dressed_nb[i]))
+            .collect();
+        b_dressed
+            .add("energy_spread", Correlation::Full, shifts)
+            .map_err(budget_err)?;
+    }
+    for &alt in &plan.alternative_radiators {
+        let chain = plan.chain.with_scheme(alt);
+        let (a, _) = unfold_with(&chain, &energies, &spread)?;
+        let shifts = (0..n).map(|i| a.sigma_dressed_nb[i] - y[i]).collect();
+        b_dressed
+            .add(format!("radiator:{}", alt.key()), Correlation::Full, shifts)
+            .map_err(budget_err)?;
+    }
+    // σ_bare = σ_dressed/vp_factor: every dressed shift divided by the point's factor.
+    let mut b_born = Budget::new(n);
+    for s in b_dressed.sources() {
+        let shifts = s
+            .shifts
+            .iter()
+            .zip(&vp_factor)
+            .map(|(d, f)| d / f)
+            .collect();
+        b_born
+            .add_in_group(
+                s.name.clone(),
+                s.group.clone(),
+                s.kind,
+                s.correlation,
+                shifts,
+            )
+            .map_err(budget_err)?;
+    }
+    for (name, vp) in &plan.vp_variations {
+        let shifts = (0..n)
+            .map(|i| {
+                let f = vp.s_channel_factor(energies[i] * energies[i]).norm_sqr();
+                y[i] / f - y[i] / vp_factor[i]
+            })
+            .collect();
+        b_born
+            .add(name.clone(), Correlation::Full, shifts)
+            .map_err(budget_err)?;
+    }
+    let points = (0..n)
+        .map(|i| CorrectedPoint {
+            sqrt_s_gev: energies[i],
+            luminosity_nb_inv: lumi[i].0,
+            energy_spread_mev: spread[i],
+            sigma_obs_nb: obs[i],
+            one_plus_delta: nominal.one_plus_delta[i],
+            sigma_dressed_nb: y[i],
+            vp_factor: vp_factor[i],
+            sigma_born_nb: y[i] / vp_factor[i],
+        })
+        .collect();
+    Ok(CorrectedScan {
+        points,
+        obs: b_obs,
+        dressed: b_dressed,
+        born: b_born,
+        iterations: nominal.iterations,
+        last_change: nominal.last_change,
+        response_residual,
+    })
+}
