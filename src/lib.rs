@@ -24,6 +24,7 @@
 //! - [`isr`]: radiator schemes, the ISR convolution with cuts, final-state factor, beam spread.
 //! - [`lumi`]: acceptances, visible Bhabha/γγ/μμ cross-sections with ISR/FSR, counts → luminosity.
 //! - [`scan`]: measured scans, the iterative unfolding to dressed and bare cross-sections.
+//! - [`table`]: correction tables on a grid with per-variation shifts, shardable.
 //! - [`budget`]: uncertainty sources as signed shifts per point, covariance across points.
 //! - [`plot`]: SVG plots of line shapes, correction factors and budgets.
 //!
@@ -50,6 +51,7 @@ pub mod plot;
 pub mod process;
 pub mod rmodel;
 pub mod scan;
+pub mod table;
 pub mod vp;
 
 pub use error::ParamError;

@@ -8,6 +8,7 @@ mod correct;
 mod isr;
 mod lumi;
 pub mod output;
+mod table;
 
 use anyhow::{Context, Result, anyhow};
 use clap::{Parser, Subcommand};
@@ -35,6 +36,8 @@ enum Command {
     Lumi(lumi::LumiArgs),
     /// Correct a measured scan: Born and dressed cross-sections with their budget.
     Correct(correct::CorrectArgs),
+    /// Correction tables (1 + δ, vp factor, σ's, per-variation shifts) on a grid from a card.
+    Table(table::TableArgs),
 }
 
 /// Parse the arguments and run the command.
@@ -45,6 +48,7 @@ pub fn run(cli: Cli) -> Result<()> {
         Command::Isr(args) => isr::run(args),
         Command::Lumi(args) => lumi::run(args),
         Command::Correct(args) => correct::run(args),
+        Command::Table(args) => table::run(args),
     }
 }
 

@@ -170,9 +170,12 @@ fn variable_doc<'a>(
         values: (0..n)
             .map(|i| Value {
                 value: v.values[i],
+                // A zero error is no error: the format refuses values whose errors
+                // are all zero, so zeros are left out.
                 errors: v
                     .errors
                     .iter()
+                    .filter(|(_, e)| e[i] != 0.0)
                     .map(|(label, e)| SymError {
                         symerror: e[i],
                         label,

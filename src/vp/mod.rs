@@ -46,6 +46,19 @@ pub trait Polarisation: Sync + Send {
     }
 }
 
+/// A borrowed model is a model (the chain links hold `&Vp` without cloning tables).
+impl<T: Polarisation + ?Sized> Polarisation for &T {
+    fn pi(&self, q2_gev2: f64) -> Complex64 {
+        (**self).pi(q2_gev2)
+    }
+    fn features(&self) -> &[Feature] {
+        (**self).features()
+    }
+    fn describe(&self) -> String {
+        (**self).describe()
+    }
+}
+
 /// No vacuum polarisation: Π = 0 (the Born, "bare", choice).
 #[derive(Debug, Clone, Copy, Default, PartialEq)]
 pub struct NoVp;

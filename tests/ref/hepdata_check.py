@@ -2,7 +2,8 @@
 external tool; GPL, never linked) and read every YAML file back with PyYAML, checking
 that every value and error is a number (not a string).
 
-usage: hepdata_check.py DIR   prints "valid 1" and "numeric_values N" on success
+usage: hepdata_check.py DIR   prints "valid 1", "numeric_values N" and "numeric_errors N"
+on success
 """
 import os
 import sys
@@ -20,6 +21,7 @@ if not ok:
     sys.exit(1)
 
 count = 0
+errors = 0
 for name in sorted(os.listdir(folder)):
     if name == "submission.yaml":
         continue
@@ -34,5 +36,7 @@ for name in sorted(os.listdir(folder)):
                 for err in val.get("errors", []):
                     if not isinstance(err["symerror"], (int, float)):
                         sys.exit(f"{name}: error {err['symerror']!r} is not a number")
+                    errors += 1
 print("valid 1")
 print("numeric_values", count)
+print("numeric_errors", errors)
