@@ -1,5 +1,6 @@
 //! The error type of the scan layer: every message names where the problem is.
 
+use super::fit::FitStop;
 use crate::ParamError;
 use std::path::PathBuf;
 use thiserror::Error;
@@ -47,4 +48,32 @@ pub enum ScanError {
     /// The line-shape model or the response cannot be built from these points.
     #[error("{0}")]
     Model(String),
+    /// A forward fit with too few points to leave a degree of freedom.
+    #[error(
+        "forward fit: the scan has {points} points for {parameters} fitted parameters \
+         (fit.continuum = \"{continuum}\"); allowed: at least {} points (parameters + 1), \
+         or fewer parameters (fit.continuum = \"scale\")",
+        parameters + 1
+    )]
+    FitTooFewPoints {
+        points: usize,
+        parameters: usize,
+        continuum: &'static str,
+    },
+    /// The forward fit stopped without converging; its values are not trustworthy.
+    #[error(
+        "forward fit did not converge: stopped ({stop}) after {iterations} iterations at \
+         chi2 {chi2:.6e}, estimated distance to the minimum {edm:.3e} (tolerance \
+         {tolerance:.1e}); allowed: raise fit.max_iterations, give starting values nearer \
+         the peak (fit.mass_gev, fit.gee_b_kev), or check that the resonance is seen in \
+         the data"
+    )]
+    FitFailed {
+        /// [`FitStop::MaxIterations`], [`FitStop::Singular`] or [`FitStop::Stalled`].
+        stop: FitStop,
+        iterations: usize,
+        chi2: f64,
+        edm: f64,
+        tolerance: f64,
+    },
 }
