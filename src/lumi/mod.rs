@@ -6,6 +6,7 @@
 mod acceptance;
 mod card;
 mod luminosity;
+mod monitor;
 mod structure_function;
 mod visible;
 
@@ -15,5 +16,6 @@ pub use luminosity::{
     COUNTS_COLUMNS, CountsError, Prediction, RC_NONLOG_REL, Run, RunLuminosity, SigmaShift,
     luminosities, parse_counts, predict,
 };
+pub use monitor::{Monitor, VP_REGIONS, VpModels};
 pub use structure_function::StructureFunction;
 pub use visible::{Channel, Scale, Settings, SigmaVis, Visible, VisibleError};

@@ -9,14 +9,24 @@
 //! - `luminosity_scale`, `efficiency` and user-declared relative terms: a common scale of
 //!   σ_obs, hence the same relative shift of every corrected point (the unfolding is
 //!   linear), fully correlated unless the card says otherwise.
+//! - `luminosity:<name>` (with a monitor of the luminosity layer, [`MonitorSigma::Layer`]):
+//!   each source of that layer's σ_vis budget (`numerical`, `acceptance_width`,
+//!   `acceptance_offset`, `rc_scale`, `rc_nonlog`; see [`crate::lumi::predict`]) and the
+//!   monitor efficiency, as the relative shift δσ_vis/σ_vis of σ_obs at each point,
+//!   propagated to σ_dressed as δy = K⁻¹ δσ_obs (a uniform relative shift stays uniform, as
+//!   for `luminosity_scale`).
 //! - `beam_energy`: every energy shifted by ±δE, the scan unfolded again, symmetric shift
 //!   of the corrected values at their points (the correction-factor effect; the energy
-//!   uncertainty itself is reported with √s).
+//!   uncertainty itself is reported with √s). With a monitor of the luminosity layer the
+//!   same δE moves σ_vis: that shift of σ_obs is part of this source (in σ_obs, and through
+//!   K⁻¹ in σ_dressed, added to the correction-factor effect).
 //! - `energy_spread`: every spread scaled by 1 ± its relative uncertainty, unfolded again.
 //! - `radiator:<name>`: each alternative radiator, unfolded again, shift = alternative −
 //!   nominal (the scheme spread, a theory uncertainty).
-//! - `vp:<region>` (σ_bare only): the hadronic VP with one R-model region at +1σ, through
-//!   the VP factor (the dressed values do not depend on it beyond the template's shape).
+//! - `vp:<region>`: the hadronic VP with one R-model region at +1σ, through the VP factor
+//!   of σ_bare (the dressed values do not depend on it beyond the template's shape); with a
+//!   monitor of the luminosity layer with full VP, also through the monitor's σ_vis (in
+//!   σ_obs, σ_dressed and σ_bare, coherently with the VP-factor shift).
 
 use super::ScanError;
 use super::data::{LuminosityInput, ScanPoint};
@@ -25,8 +35,10 @@ use super::shape::{ShapeModel, TemplateResonance};
 use super::unfold::{UnfoldSettings, response, unfold};
 use crate::budget::{Budget, Correlation, Kind, symmetric_shift};
 use crate::isr::Scheme;
+use crate::lumi::{Monitor, Prediction};
 use crate::process::CrossSection;
 use crate::vp::Polarisation;
+use rayon::prelude::*;
 use std::sync::Arc;
 
 /// A user-declared relative uncertainty of σ_obs.
@@ -37,47 +49,176 @@ pub struct RelativeTerm {
     pub correlation: Correlation,
 }
 
+/// The visible cross-section of the luminosity monitor, for rows with monitor counts.
+#[derive(Clone)]
+pub enum MonitorSigma {
+    /// A given σ_vis(s) (e.g. [`InverseS`] from `visible_sigma_times_s_nb_gev2`), with no
+    /// budget of its own beyond `luminosity_scale`.
+    Fixed(Arc<dyn CrossSection + Send>),
+    /// The luminosity layer: σ_vis in the monitor's acceptance with radiation and VP as its
+    /// card says, and the layer's budget (theory, VP, geometry, beam energy, efficiency).
+    Layer(Arc<Monitor>),
+}
+
 /// Where each point's luminosity comes from.
 #[derive(Clone)]
 pub struct LuminositySource {
-    /// The visible cross-section of the luminosity monitor at s, nb, for rows with
-    /// Bhabha counts (`None`: such rows are an error).
-    pub visible: Option<Arc<dyn CrossSection + Send>>,
+    /// The visible cross-section of the luminosity monitor, for rows with Bhabha counts
+    /// (`None`: such rows are an error).
+    pub visible: Option<MonitorSigma>,
     /// A one-line description of `visible` for provenance.
     pub describe: String,
 }
 
+/// One budget source of the luminosity monitor, as a relative shift of σ_obs per point.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LuminosityTerm {
+    /// The name in the scan budget (see [`scan_source_name`]).
+    pub name: String,
+    pub correlation: Correlation,
+    /// δσ_obs/σ_obs at each point (0 where the luminosity is given). σ_obs ∝ ε_mon·σ_vis,
+    /// so a σ_vis shift δσ moves σ_obs by +δσ/σ_vis.
+    pub rel: Vec<f64>,
+}
+
+/// The luminosity of every point of a scan, with the monitor's budget.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ScanLuminosity {
+    /// (L, δL_stat) per point, nb⁻¹; δL_stat from the monitor counts (0 when L is given).
+    pub values: Vec<(f64, f64)>,
+    /// The monitor's σ_vis used at each point, nb (None where L is given).
+    pub sigma_vis_nb: Vec<Option<f64>>,
+    /// The luminosity layer's budget sources (empty for a fixed σ_vis or given L).
+    pub terms: Vec<LuminosityTerm>,
+}
+
+/// The scan-budget name of a source of the luminosity layer's budget ([`crate::lumi::predict`]).
+///
+/// Two of them are the same physical cause as a scan source and share its name, so that
+/// their shifts add coherently: `beam_energy` (one centre-of-mass energy uncertainty moves
+/// σ_vis and the correction factors together) and `vp_<region>` → `vp:<region>` (one R-model
+/// region at +1σ moves the monitor's σ_vis and the VP factor of σ_bare). The others are
+/// `luminosity:<name>`.
+pub fn scan_source_name(lumi_name: &str) -> String {
+    if lumi_name == "beam_energy" {
+        lumi_name.to_string()
+    } else if let Some(region) = lumi_name.strip_prefix("vp_") {
+        format!("vp:{region}")
+    } else {
+        format!("luminosity:{lumi_name}")
+    }
+}
+
 impl LuminositySource {
-    /// (L, δL_stat) of a point in nb⁻¹.
+    /// The luminosity of every point. A monitor of the luminosity layer is evaluated once
+    /// per distinct energy of the rows with monitor counts (in parallel).
     ///
     /// # Errors
-    /// Bhabha counts without a visible cross-section, or a non-positive σ_vis.
-    pub fn luminosity(&self, p: &ScanPoint) -> Result<(f64, f64), ScanError> {
-        match p.luminosity {
-            LuminosityInput::Given { luminosity_nb_inv } => Ok((luminosity_nb_inv, 0.0)),
-            LuminosityInput::Bhabha {
-                n_events,
-                n_bkg,
-                efficiency,
-            } => {
-                let Some(vis) = &self.visible else {
-                    return Err(ScanError::Model(
-                        "the data give Bhabha counts but the card has no luminosity monitor \
-                         cross-section (luminosity.visible_sigma_times_s_nb_gev2)"
-                            .into(),
-                    ));
-                };
-                let sigma = vis.sigma_nb(p.sqrt_s_gev * p.sqrt_s_gev);
-                if !(sigma > 0.0 && sigma.is_finite()) {
-                    return Err(ScanError::Model(format!(
-                        "visible luminosity cross-section {sigma} nb at sqrt_s_gev = {}",
-                        p.sqrt_s_gev
-                    )));
+    /// Bhabha counts without a monitor, a monitor prediction that fails, a non-positive σ_vis.
+    pub fn evaluate(&self, data: &[ScanPoint]) -> Result<ScanLuminosity, ScanError> {
+        let mut energies: Vec<f64> = data
+            .iter()
+            .filter(|p| matches!(p.luminosity, LuminosityInput::Bhabha { .. }))
+            .map(|p| p.sqrt_s_gev)
+            .collect();
+        energies.sort_by(f64::total_cmp);
+        energies.dedup();
+        let n = data.len();
+        let mut out = ScanLuminosity {
+            values: Vec::with_capacity(n),
+            sigma_vis_nb: Vec::with_capacity(n),
+            terms: Vec::new(),
+        };
+        let predictions: Vec<Prediction> = match (&self.visible, energies.is_empty()) {
+            (_, true) => Vec::new(),
+            (None, false) => {
+                return Err(ScanError::Model(
+                    "the data give Bhabha counts but the card has no luminosity monitor; \
+                     allowed: [luminosity.monitor] (a luminosity run card inline), \
+                     luminosity.monitor_card (its file) or \
+                     luminosity.visible_sigma_times_s_nb_gev2"
+                        .into(),
+                ));
+            }
+            (Some(MonitorSigma::Fixed(_)), false) => Vec::new(),
+            (Some(MonitorSigma::Layer(m)), false) => energies
+                .par_iter()
+                .map(|&e| {
+                    m.predict(e).map_err(|err| {
+                        ScanError::Model(format!("luminosity monitor at sqrt_s_gev = {e}: {err}"))
+                    })
+                })
+                .collect::<Result<_, _>>()?,
+        };
+        let sigma_at = |e: f64| -> f64 {
+            match &self.visible {
+                Some(MonitorSigma::Fixed(vis)) => vis.sigma_nb(e * e),
+                _ => {
+                    predictions[energies.partition_point(|&x| x < e)]
+                        .sigma
+                        .sigma_nb
                 }
-                let l = (n_events - n_bkg) / (efficiency * sigma);
-                Ok((l, l * n_events.sqrt() / (n_events - n_bkg)))
+            }
+        };
+        for p in data {
+            match p.luminosity {
+                LuminosityInput::Given { luminosity_nb_inv } => {
+                    out.values.push((luminosity_nb_inv, 0.0));
+                    out.sigma_vis_nb.push(None);
+                }
+                LuminosityInput::Bhabha {
+                    n_events,
+                    n_bkg,
+                    efficiency,
+                } => {
+                    let sigma = sigma_at(p.sqrt_s_gev);
+                    if !(sigma > 0.0 && sigma.is_finite()) {
+                        return Err(ScanError::Model(format!(
+                            "visible luminosity cross-section {sigma} nb at sqrt_s_gev = {}",
+                            p.sqrt_s_gev
+                        )));
+                    }
+                    let l = (n_events - n_bkg) / (efficiency * sigma);
+                    out.values
+                        .push((l, l * n_events.sqrt() / (n_events - n_bkg)));
+                    out.sigma_vis_nb.push(Some(sigma));
+                }
             }
         }
+        if let (Some(MonitorSigma::Layer(m)), Some(first)) = (&self.visible, predictions.first()) {
+            let bhabha = |p: &ScanPoint| matches!(p.luminosity, LuminosityInput::Bhabha { .. });
+            let eff = m.plan().uncertainty.efficiency_rel;
+            if eff > 0.0 {
+                out.terms.push(LuminosityTerm {
+                    name: "luminosity:efficiency".into(),
+                    correlation: Correlation::Full,
+                    rel: data
+                        .iter()
+                        .map(|p| if bhabha(p) { eff } else { 0.0 })
+                        .collect(),
+                });
+            }
+            for (k, source) in first.shifts.iter().enumerate() {
+                let rel: Vec<f64> = data
+                    .iter()
+                    .map(|p| {
+                        if !bhabha(p) {
+                            return 0.0;
+                        }
+                        let q = &predictions[energies.partition_point(|&x| x < p.sqrt_s_gev)];
+                        q.shifts[k].shift_nb / q.sigma.sigma_nb
+                    })
+                    .collect();
+                if rel.iter().any(|r| *r != 0.0) {
+                    out.terms.push(LuminosityTerm {
+                        name: scan_source_name(&source.name),
+                        correlation: source.correlation,
+                        rel,
+                    });
+                }
+            }
+        }
+        Ok(out)
     }
 }
 
@@ -160,10 +301,8 @@ fn budget_err(e: crate::budget::BudgetError) -> ScanError {
 /// converge (for the nominal or any varied chain).
 pub fn correct_scan(plan: &ScanPlan, data: &[ScanPoint]) -> Result<CorrectedScan, ScanError> {
     let n = data.len();
-    let mut lumi = Vec::with_capacity(n);
-    for p in data {
-        lumi.push(plan.luminosity.luminosity(p)?);
-    }
+    let luminosity = plan.luminosity.evaluate(data)?;
+    let lumi = &luminosity.values;
     let energies: Vec<f64> = data.iter().map(|p| p.sqrt_s_gev).collect();
     let spread: Vec<f64> = data
         .iter()
@@ -171,17 +310,17 @@ pub fn correct_scan(plan: &ScanPlan, data: &[ScanPoint]) -> Result<CorrectedScan
         .collect();
     let obs: Vec<f64> = data
         .iter()
-        .zip(&lumi)
+        .zip(lumi)
         .map(|(p, (l, _))| (p.n_events - p.n_bkg) / (p.efficiency * l))
         .collect();
     let obs_stat: Vec<f64> = data
         .iter()
-        .zip(&lumi)
+        .zip(lumi)
         .map(|(p, (l, _))| p.n_events.sqrt() / (p.efficiency * l))
         .collect();
     let obs_lumi_stat: Vec<f64> = obs
         .iter()
-        .zip(&lumi)
+        .zip(lumi)
         .map(|(o, (l, dl))| o * dl / l)
         .collect();
     let weights: Vec<f64> = obs_stat.iter().map(|d| 1.0 / (d * d)).collect();
@@ -268,6 +407,47 @@ pub fn correct_scan(plan: &ScanPlan, data: &[ScanPoint]) -> Result<CorrectedScan
             .add_relative(&name, corr, rel, y)
             .map_err(budget_err)?;
     }
+    // The luminosity layer's sources: a relative shift of σ_obs per point, through the
+    // unfolding as δy = K⁻¹ δσ_obs (for a uniform shift that is the same relative shift
+    // of every corrected point, like luminosity_scale). The monitor's beam-energy term is
+    // held back to join the scan's own beam_energy source.
+    let mut lumi_energy: Option<Vec<f64>> = None;
+    for t in &luminosity.terms {
+        let delta: Vec<f64> = obs.iter().zip(&t.rel).map(|(o, r)| o * r).collect();
+        b_obs
+            .add(t.name.clone(), t.correlation, delta.clone())
+            .map_err(budget_err)?;
+        let through = |columns: std::ops::Range<usize>| -> Vec<f64> {
+            let mut d = vec![0.0; n];
+            for j in columns {
+                for (i, di) in d.iter_mut().enumerate() {
+                    *di += kinv.get(i, j) * delta[j];
+                }
+            }
+            d
+        };
+        match t.correlation {
+            Correlation::Full if t.name == "beam_energy" => {
+                lumi_energy = Some(through(0..n));
+            }
+            Correlation::Full => b_dressed
+                .add(t.name.clone(), Correlation::Full, through(0..n))
+                .map_err(budget_err)?,
+            Correlation::None => {
+                for j in (0..n).filter(|&j| delta[j] != 0.0) {
+                    b_dressed
+                        .add_in_group(
+                            format!("{}[{j}]", t.name),
+                            t.name.clone(),
+                            Kind::Systematic,
+                            Correlation::Full,
+                            through(j..j + 1),
+                        )
+                        .map_err(budget_err)?;
+                }
+            }
+        }
+    }
     if plan.energy_unc_mev > 0.0 {
         let d = plan.energy_unc_mev * 1e-3;
         let up: Vec<f64> = energies.iter().map(|e| e + d).collect();
@@ -275,10 +455,17 @@ pub fn correct_scan(plan: &ScanPlan, data: &[ScanPoint]) -> Result<CorrectedScan
         let (u, _) = unfold_with(&plan.chain, &up, &spread)?;
         let (l, _) = unfold_with(&plan.chain, &down, &spread)?;
         let shifts = (0..n)
-            .map(|i| symmetric_shift(u.sigma_dressed_nb[i], l.sigma_dressed_nb[i]))
+            .map(|i| {
+                symmetric_shift(u.sigma_dressed_nb[i], l.sigma_dressed_nb[i])
+                    + lumi_energy.as_ref().map_or(0.0, |m| m[i])
+            })
             .collect();
         b_dressed
             .add("beam_energy", Correlation::Full, shifts)
+            .map_err(budget_err)?;
+    } else if let Some(m) = lumi_energy {
+        b_dressed
+            .add("beam_energy", Correlation::Full, m)
             .map_err(budget_err)?;
     }
     if plan.energy_spread_rel > 0.0 && spread.iter().any(|w| *w > 0.0) {
@@ -308,15 +495,34 @@ pub fn correct_scan(plan: &ScanPlan, data: &[ScanPoint]) -> Result<CorrectedScan
             .add(format!("radiator:{}", alt.key()), Correlation::Full, shifts)
             .map_err(budget_err)?;
     }
-    // σ_bare = σ_dressed/vp_factor: every dressed shift divided by the point's factor.
+    // σ_bare = σ_dressed/vp_factor: every dressed shift divided by the point's factor; a
+    // VP variation also moves the factor itself, added to the dressed shift of the same
+    // name when the luminosity monitor's σ_vis carries that variation too.
+    let mut vp_shifts: Vec<(String, Vec<f64>)> = plan
+        .vp_variations
+        .iter()
+        .map(|(name, vp)| {
+            let shifts = (0..n)
+                .map(|i| {
+                    let f = vp.s_channel_factor(energies[i] * energies[i]).norm_sqr();
+                    y[i] / f - y[i] / vp_factor[i]
+                })
+                .collect();
+            (name.clone(), shifts)
+        })
+        .collect();
     let mut b_born = Budget::new(n);
     for s in b_dressed.sources() {
-        let shifts = s
+        let mut shifts: Vec<f64> = s
             .shifts
             .iter()
             .zip(&vp_factor)
             .map(|(d, f)| d / f)
             .collect();
+        if let Some(k) = vp_shifts.iter().position(|(name, _)| *name == s.name) {
+            let (_, factor) = vp_shifts.remove(k);
+            shifts.iter_mut().zip(factor).for_each(|(a, b)| *a += b);
+        }
         b_born
             .add_in_group(
                 s.name.clone(),
@@ -327,15 +533,9 @@ pub fn correct_scan(plan: &ScanPlan, data: &[ScanPoint]) -> Result<CorrectedScan
             )
             .map_err(budget_err)?;
     }
-    for (name, vp) in &plan.vp_variations {
-        let shifts = (0..n)
-            .map(|i| {
-                let f = vp.s_channel_factor(energies[i] * energies[i]).norm_sqr();
-                y[i] / f - y[i] / vp_factor[i]
-            })
-            .collect();
+    for (name, shifts) in vp_shifts {
         b_born
-            .add(name.clone(), Correlation::Full, shifts)
+            .add(name, Correlation::Full, shifts)
             .map_err(budget_err)?;
     }
     let points = (0..n)
