@@ -9,10 +9,9 @@ use super::output::{OutputArgs, Report, Row, emit};
 use super::parse_energy_grid;
 use radnorm::budget::Correlation;
 use radnorm::lumi::{
-    FinalState, LumiPlan, Prediction, RawCard, Visible, luminosities, parse_counts, predict,
+    FinalState, LumiPlan, Monitor, Prediction, RawCard, VisibleError, luminosities, parse_counts,
 };
-use radnorm::rmodel::Region;
-use radnorm::vp::{Polarisation, Vp, VpChoice};
+use radnorm::vp::Polarisation;
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
 enum ProcessFlag {
@@ -71,19 +70,21 @@ pub struct LumiArgs {
     #[arg(long, value_enum)]
     process: Option<ProcessFlag>,
     /// Centre-of-mass energy in GeV: a value or a grid start:stop:count.
-    #[arg(long, value_name = "GEV")]
+    // Negative numbers and hyphen values reach our validation, which names the allowed
+    // range (clap would only say "unexpected argument").
+    #[arg(long, value_name = "GEV", allow_hyphen_values = true)]
     sqrt_s: Option<String>,
     /// Both final particles above this polar angle (degrees).
-    #[arg(long, value_name = "DEG")]
+    #[arg(long, value_name = "DEG", allow_negative_numbers = true)]
     theta_min_deg: Option<f64>,
     /// Both final particles below this polar angle (degrees).
-    #[arg(long, value_name = "DEG")]
+    #[arg(long, value_name = "DEG", allow_negative_numbers = true)]
     theta_max_deg: Option<f64>,
     /// Maximum acollinearity (degrees; 180 = no cut).
-    #[arg(long, value_name = "DEG")]
+    #[arg(long, value_name = "DEG", allow_negative_numbers = true)]
     acol_max_deg: Option<f64>,
     /// Minimum energy of each final particle, as a fraction of the beam energy.
-    #[arg(long, value_name = "FRAC")]
+    #[arg(long, value_name = "FRAC", allow_negative_numbers = true)]
     e_min_frac: Option<f64>,
     /// Vacuum polarisation of the photon propagators [default: full].
     #[arg(long, value_enum)]
@@ -98,10 +99,29 @@ pub struct LumiArgs {
     #[arg(long, value_enum)]
     scale: Option<ScaleFlag>,
     /// Target relative numerical precision of σ_vis [default: 1e-4].
-    #[arg(long, value_name = "REL")]
+    #[arg(long, value_name = "REL", allow_negative_numbers = true)]
     precision: Option<f64>,
     #[command(flatten)]
     output: OutputArgs,
+}
+
+/// The flag that sets a card key, if any: the uncertainties, the second particle's window
+/// and `z_exchange` are set in the run card only.
+fn flag_of_card_key(key: &str) -> Option<&'static str> {
+    Some(match key {
+        "process" => "--process",
+        "sqrt_s_gev" => "--sqrt-s",
+        "vp" => "--vp",
+        "born_only" => "--born-only",
+        "final_state" => "--final-state",
+        "scale" => "--scale",
+        "precision" => "--precision",
+        "acceptance.theta_min_deg" => "--theta-min-deg",
+        "acceptance.theta_max_deg" => "--theta-max-deg",
+        "acceptance.acol_max_deg" => "--acol-max-deg",
+        "acceptance.e_min_frac" => "--e-min-frac",
+        _ => return None,
+    })
 }
 
 /// The card (if any) with the flags laid over it.
@@ -148,57 +168,23 @@ fn raw_card(args: &LumiArgs) -> Result<RawCard> {
     Ok(raw)
 }
 
-/// The VP models: nominal and, for full VP, one +1σ variation per R-model region.
-struct VpModels {
-    nominal: Option<Vp>,
-    variations: Vec<(&'static str, Vp)>,
-}
-
-fn vp_models(choice: VpChoice) -> VpModels {
-    match choice {
-        VpChoice::None => VpModels {
-            nominal: None,
-            variations: Vec::new(),
-        },
-        VpChoice::Leptonic => VpModels {
-            nominal: Some(Vp::leptonic()),
-            variations: Vec::new(),
-        },
-        VpChoice::Full => VpModels {
-            nominal: Some(Vp::full()),
-            variations: [
-                Region::PiPi,
-                Region::OmegaPhi,
-                Region::Inclusive,
-                Region::Pqcd,
-                Region::Narrow,
-            ]
-            .into_par_iter()
-            .map(|r| (r.key(), Vp::full_varied(r, 1.0)))
-            .collect(),
-        },
-    }
-}
-
 pub fn run(args: LumiArgs) -> Result<()> {
     let raw = raw_card(&args)?;
-    let plan = LumiPlan::try_from(raw).map_err(|e| match e.key().rsplit('.').next() {
-        Some(k) if !k.is_empty() => anyhow!("{e} (card key; as a flag: --{})", k.replace('_', "-")),
-        _ => anyhow!("{e}"),
+    let plan = LumiPlan::try_from(raw).map_err(|e| match (e.key(), flag_of_card_key(e.key())) {
+        ("", _) => anyhow!("{e}"),
+        (_, Some(flag)) => anyhow!("{e} (card key; as a flag: {flag})"),
+        (_, None) => anyhow!("{e} (run card key; it has no flag)"),
     })?;
-    let card_sqrt_s = match &args.sqrt_s {
-        Some(text) => Some(parse_energy_grid("--sqrt-s", text)?.points().to_vec()),
-        None => plan.sqrt_s_gev.map(|e| vec![e]),
+    // `single`: a plain value (flag or card) gives one JSON object, any grid an array.
+    let (card_sqrt_s, single) = match &args.sqrt_s {
+        Some(text) => {
+            let grid = parse_energy_grid("--sqrt-s", text)?;
+            (Some(grid.points().to_vec()), grid.is_single())
+        }
+        None => (plan.sqrt_s_gev.map(|e| vec![e]), true),
     };
-    let models = vp_models(plan.vp);
-    let vp: Option<&dyn Polarisation> = models.nominal.as_ref().map(|v| v as &dyn Polarisation);
-    let variations: Vec<(&str, &dyn Polarisation)> = models
-        .variations
-        .iter()
-        .map(|(k, v)| (*k, v as &dyn Polarisation))
-        .collect();
-    let visible = Visible::new(plan.channel, plan.acceptance, vp, plan.settings)?;
-    let provenance = provenance(&plan, vp);
+    let monitor = Monitor::new(plan.clone())?;
+    let provenance = provenance(&plan, monitor.vp());
     let mut inputs: Vec<&std::path::Path> = Vec::new();
     if let Some(c) = &args.card {
         inputs.push(c);
@@ -211,14 +197,20 @@ pub fn run(args: LumiArgs) -> Result<()> {
             };
             let predictions: Vec<Prediction> = energies
                 .par_iter()
-                .map(|&e| predict(&visible, vp, &variations, &plan.uncertainty, e))
-                .collect::<Result<_, _>>()?;
+                .map(|&e| monitor.predict(e))
+                .collect::<Result<_, _>>()
+                .map_err(|e| match (&e, &args.sqrt_s) {
+                    (VisibleError::BelowThreshold { .. }, Some(text)) => {
+                        anyhow!("--sqrt-s {text}: {e}")
+                    }
+                    _ => anyhow!(e),
+                })?;
             let rows = predictions.iter().map(|p| sigma_row(&plan, p)).collect();
             let mut report = Report::new(rows);
             for n in provenance.iter().chain(&precision_notes(&predictions)) {
                 report = report.note(n.clone());
             }
-            emit(report, &args.output, &inputs, energies.len() == 1)
+            emit(report, &args.output, &inputs, single)
         }
         Some(path) => {
             let text = std::fs::read_to_string(path)
@@ -247,8 +239,21 @@ pub fn run(args: LumiArgs) -> Result<()> {
             energies.dedup();
             let predictions: Vec<Prediction> = energies
                 .par_iter()
-                .map(|&e| predict(&visible, vp, &variations, &plan.uncertainty, e))
-                .collect::<Result<_, _>>()?;
+                .map(|&e| monitor.predict(e))
+                .collect::<Result<_, _>>()
+                .map_err(|e| match &e {
+                    VisibleError::BelowThreshold { sqrt_s_gev, .. } => {
+                        match runs.iter().find(|r| r.sqrt_s_gev == *sqrt_s_gev) {
+                            Some(r) => anyhow!(
+                                "{}, line {}, field sqrt_s_gev: {e}",
+                                path.display(),
+                                r.line
+                            ),
+                            None => anyhow!(e),
+                        }
+                    }
+                    _ => anyhow!(e),
+                })?;
             let per_run: Vec<&Prediction> = runs
                 .iter()
                 .map(|r| &predictions[energies.partition_point(|&e| e < r.sqrt_s_gev)])
@@ -412,4 +417,47 @@ fn precision_notes(predictions: &[Prediction]) -> Vec<String> {
         notes.push("WARNING: the numerical precision target was not met at every energy".into());
     }
     notes
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn card_keys_map_to_flags_that_exist() {
+        let cmd = LumiArgs::augment_args(clap::Command::new("lumi"));
+        let longs: Vec<String> = cmd
+            .get_arguments()
+            .filter_map(|a| a.get_long())
+            .map(|l| format!("--{l}"))
+            .collect();
+        for key in [
+            "process",
+            "sqrt_s_gev",
+            "vp",
+            "born_only",
+            "final_state",
+            "scale",
+            "precision",
+            "z_exchange",
+            "acceptance.theta_min_deg",
+            "acceptance.theta_max_deg",
+            "acceptance.second_theta_min_deg",
+            "acceptance.second_theta_max_deg",
+            "acceptance.acol_max_deg",
+            "acceptance.e_min_frac",
+            "uncertainty.theta_edge_deg",
+            "uncertainty.sqrt_s_gev",
+            "uncertainty.efficiency_rel",
+        ] {
+            if let Some(flag) = flag_of_card_key(key) {
+                assert!(
+                    longs.iter().any(|l| l == flag),
+                    "{key} → {flag}: no such flag"
+                );
+            }
+        }
+        assert_eq!(flag_of_card_key("uncertainty.theta_edge_deg"), None);
+        assert_eq!(flag_of_card_key("uncertainty.sqrt_s_gev"), None);
+    }
 }

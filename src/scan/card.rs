@@ -23,7 +23,16 @@
 //!
 //! [luminosity]
 //! scale_unc_rel = 0.01                    # correlated luminosity-scale uncertainty
-//! visible_sigma_times_s_nb_gev2 = 4500.0  # monitor σ_vis·s, for Bhabha-count rows
+//! # For rows with monitor counts (n_bhabha, …), one of three monitor descriptions:
+//! visible_sigma_times_s_nb_gev2 = 4500.0  # (a) a fixed σ_vis = C/s, no budget of its own
+//! # monitor_card = "lumi.toml"            # (b) a luminosity run card, relative to this card
+//! # [luminosity.monitor]                  # (c) the same run card inline:
+//! # process = "ee"                        #     every key of a luminosity run card
+//! # [luminosity.monitor.acceptance]
+//! # theta_min_deg = 40.0
+//! # …
+//! # [luminosity.monitor.uncertainty]
+//! # theta_edge_deg = 0.01
 //!
 //! [efficiency]
 //! unc_rel = 0.005           # correlated efficiency uncertainty
@@ -41,10 +50,44 @@
 //! name = "trigger"
 //! rel = 0.002
 //! correlated = true
+//!
+//! [fit]                     # optional: forward fit of a narrow resonance instead of unfolding
+//! resonance = "R"           # the [[resonance]] fitted (default: the only one); its width_gev is held fixed
+//! mass_gev = 3.0            # optional starting mass (default: the resonance's mass_gev)
+//! gee_b_kev = 0.3           # optional starting Γ_ee·B in keV (default: linear least squares at the starting mass)
+//! continuum = "scale"       # scale | scale_slope: the continuum template times a, or times a + b(√s − mass_gev)
+//! max_iterations = 100      # optional: most Levenberg–Marquardt steps
 //! ```
+//!
+//! The luminosity monitor (for data rows with `n_bhabha,n_bhabha_bkg,bhabha_efficiency`):
+//! with (b) or (c) the monitor's σ_vis is the luminosity layer's prediction in its
+//! acceptance, with radiation and VP as its card says, computed once per distinct energy,
+//! and the layer's budget (numerical, acceptance edges, structure-function scale, non-log
+//! terms, VP regions, beam energy, monitor efficiency) joins the scan budget (see
+//! [`super::correct_scan`]). The monitor card must not give `sqrt_s_gev` (each point has its
+//! own). Its `uncertainty.sqrt_s_gev` and `beam.energy_unc_mev` are one uncertainty: give
+//! either (it is used for both) or both equal. Only one of (a), (b), (c) may be given.
+//!
+//! ## `[fit]`: the forward fit
+//!
+//! Where a resonance is narrower than the beam-energy spread, pointwise unfolding is
+//! ill-posed. With a `[fit]` table, `radnorm correct` fits instead the resonance's mass M,
+//! Γ_ee·B (electronic width times the branching fraction into the measured final state, in
+//! the dressed convention: Γ_ee with vacuum polarisation included) and the continuum (a
+//! scale `a`, with `scale_slope` also a slope `b` per GeV about the resonance's card
+//! `mass_gev`) to the observed cross-sections with their statistical uncertainties, through
+//! the whole forward chain of this card (the dressed line shape → ISR with `[radiation]` →
+//! the Gaussian spread of each point). The continuum is this card's process with its `[vp]`
+//! model; the fitted `[[resonance]]` is a relativistic Breit–Wigner normalised by Γ_ee·B;
+//! other `[[resonance]]` entries are not part of the fit. The total width is **not
+//! fitted**: it is held at the resonance's `width_gev`, because when the spread is much
+//! wider than the resonance the observed line shape depends on Γ only through the peak area
+//! (∝ Γ_ee·B), so a scan does not determine it. See [`super::fit`] for the model, the
+//! algorithm and its stopping rules.
 
 use super::ScanError;
-use super::correct::{InverseS, LuminositySource, RelativeTerm, ScanPlan};
+use super::correct::{InverseS, LuminositySource, MonitorSigma, RelativeTerm, ScanPlan};
+use super::fit::{ContinuumForm, DEFAULT_MAX_ITERATIONS, FitPlan};
 use super::forward::ForwardChain;
 use super::shape::TemplateResonance;
 use super::unfold::UnfoldSettings;
@@ -76,6 +119,7 @@ pub struct RawScanCard {
     pub resonance: Vec<RawResonance>,
     #[serde(default)]
     pub uncertainty: Vec<RawUncertainty>,
+    pub fit: Option<RawFit>,
 }
 
 #[derive(Debug, Clone, Default, Deserialize)]
@@ -114,6 +158,14 @@ pub struct RawBeam {
 pub struct RawLuminosity {
     pub scale_unc_rel: Option<f64>,
     pub visible_sigma_times_s_nb_gev2: Option<f64>,
+    /// A luminosity run card file (the format of [`crate::lumi::RawCard`]), relative to
+    /// the scan card; [`parse_scan_card`] reads it into `monitor_card_read`.
+    pub monitor_card: Option<String>,
+    /// A luminosity run card inline (`[luminosity.monitor]`).
+    pub monitor: Option<crate::lumi::RawCard>,
+    /// The file of `monitor_card` as read: (its path as shown in messages, its contents).
+    #[serde(skip)]
+    pub monitor_card_read: Option<(String, crate::lumi::RawCard)>,
 }
 
 #[derive(Debug, Clone, Default, Deserialize)]
@@ -150,6 +202,106 @@ fn yes() -> bool {
     true
 }
 
+#[derive(Debug, Clone, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawFit {
+    pub resonance: Option<String>,
+    pub mass_gev: Option<f64>,
+    pub gee_b_kev: Option<f64>,
+    pub continuum: Option<String>,
+    pub max_iterations: Option<u32>,
+}
+
+/// A whole validated scan card: the correction plan and, with `[fit]`, the forward fit.
+#[derive(Clone)]
+pub struct ScanCard {
+    pub plan: ScanPlan,
+    pub fit: Option<FitPlan>,
+}
+
+impl TryFrom<RawScanCard> for ScanCard {
+    type Error = ScanError;
+
+    fn try_from(raw: RawScanCard) -> Result<Self, ScanError> {
+        let raw_fit = raw.fit.clone();
+        let plan = ScanPlan::try_from(raw)?;
+        let fit = raw_fit
+            .map(|f| fit_plan(&f, &plan.resonances))
+            .transpose()?;
+        Ok(ScanCard { plan, fit })
+    }
+}
+
+/// The `[fit]` table validated against the card's resonances.
+fn fit_plan(raw: &RawFit, resonances: &[TemplateResonance]) -> Result<FitPlan, ScanError> {
+    let names = || {
+        resonances
+            .iter()
+            .map(|r| format!("'{}'", r.name))
+            .collect::<Vec<_>>()
+            .join(", ")
+    };
+    let resonance = match (&raw.resonance, resonances) {
+        (_, []) => {
+            return Err(card_err(
+                "fit.resonance",
+                "the card declares no [[resonance]] to fit; allowed: a [[resonance]] table \
+                 with name, mass_gev and width_gev",
+            ));
+        }
+        (None, [only]) => only,
+        (None, _) => {
+            return Err(card_err(
+                "fit.resonance",
+                format!(
+                    "missing, and the card has several resonances; allowed: {}",
+                    names()
+                ),
+            ));
+        }
+        (Some(name), _) => resonances.iter().find(|r| &r.name == name).ok_or_else(|| {
+            card_err(
+                "fit.resonance",
+                format!(
+                    "'{name}' is not a [[resonance]] of this card; allowed: {}",
+                    names()
+                ),
+            )
+        })?,
+    };
+    let mass_start_gev = match raw.mass_gev {
+        Some(m) => in_range("fit.mass_gev", m, 0.0, 1e4, true)?,
+        None => resonance.mass_gev,
+    };
+    let gee_b_start_kev = raw
+        .gee_b_kev
+        .map(|g| in_range("fit.gee_b_kev", g, 0.0, 1e6, true))
+        .transpose()?;
+    let continuum = match raw.continuum.as_deref() {
+        None => ContinuumForm::Scale,
+        Some(k) => ContinuumForm::from_key(k).ok_or_else(|| {
+            card_err(
+                "fit.continuum",
+                format!("unknown continuum '{k}'; allowed: scale, scale_slope"),
+            )
+        })?,
+    };
+    let max_iterations = match raw.max_iterations {
+        Some(0) => return Err(card_err("fit.max_iterations", "0; allowed: ≥ 1")),
+        Some(k) => k as usize,
+        None => DEFAULT_MAX_ITERATIONS,
+    };
+    Ok(FitPlan {
+        resonance: resonance.name.clone(),
+        width_gev: resonance.width_gev,
+        pivot_sqrt_s_gev: resonance.mass_gev,
+        mass_start_gev,
+        gee_b_start_kev,
+        continuum,
+        max_iterations,
+    })
+}
+
 /// A shared VP model as a [`Polarisation`] value (for the dressing link).
 struct SharedVp(Arc<dyn Polarisation>);
 
@@ -175,24 +327,197 @@ fn card_err(key: &str, message: impl Into<String>) -> ScanError {
 }
 
 /// Parse card text; `file` names it in messages (TOML errors carry line and column).
+/// The `[fit]` table, if any, is validated too; use [`parse_full_scan_card`] to get it.
 ///
 /// # Errors
 /// [`ScanError::Card`] for TOML syntax, unknown keys, wrong types and every value
 /// outside its allowed range.
 pub fn parse_scan_card(text: &str, file: &str) -> Result<ScanPlan, ScanError> {
-    let raw: RawScanCard = toml::from_str(text).map_err(|e| ScanError::Card {
+    parse_full_scan_card(text, file).map(|c| c.plan)
+}
+
+/// Parse card text into the correction plan and the optional forward fit (`[fit]`).
+///
+/// # Errors
+/// As [`parse_scan_card`].
+pub fn parse_full_scan_card(text: &str, file: &str) -> Result<ScanCard, ScanError> {
+    let mut raw: RawScanCard = toml::from_str(text).map_err(|e| ScanError::Card {
         file: file.to_string(),
         key: "TOML".into(),
         message: e.to_string().trim_end().to_string(),
     })?;
-    ScanPlan::try_from(raw).map_err(|e| match e {
-        ScanError::Card { key, message, .. } => ScanError::Card {
-            file: file.to_string(),
+    // A luminosity.monitor_card is found relative to the card's own path, `file`.
+    read_monitor_card(&mut raw.luminosity, file)
+        .and_then(|()| ScanCard::try_from(raw))
+        .map_err(|e| match e {
+            ScanError::Card { key, message, .. } => ScanError::Card {
+                file: file.to_string(),
+                key,
+                message,
+            },
+            other => other,
+        })
+}
+
+/// Read the file named by `luminosity.monitor_card` (relative to the scan card `card_file`)
+/// into `monitor_card_read`.
+fn read_monitor_card(lumi: &mut RawLuminosity, card_file: &str) -> Result<(), ScanError> {
+    let Some(name) = &lumi.monitor_card else {
+        return Ok(());
+    };
+    let key = "luminosity.monitor_card";
+    if lumi.monitor.is_some() {
+        return Err(card_err(
             key,
-            message,
+            "given together with [luminosity.monitor]; allowed: one of them",
+        ));
+    }
+    let base = std::path::Path::new(card_file)
+        .parent()
+        .unwrap_or(std::path::Path::new(""));
+    let path = base.join(name);
+    let shown = path.display().to_string();
+    let text = std::fs::read_to_string(&path)
+        .map_err(|e| card_err(key, format!("cannot read {shown}: {e}")))?;
+    let card = crate::lumi::RawCard::parse(&text)
+        .map_err(|e| card_err(key, format!("{shown}: {}", e.to_string().trim_end())))?;
+    lumi.monitor_card_read = Some((shown, card));
+    Ok(())
+}
+
+/// The luminosity monitor of the `[luminosity]` section (validated) and the centre-of-mass
+/// energy uncertainty in MeV, which the monitor and the scan share.
+///
+/// `scan_vp` and `scan_vp_variations` are the scan's own VP models: when the monitor asks
+/// for the same (full) VP, their tables are shared instead of built again.
+fn luminosity_monitor(
+    lumi: &RawLuminosity,
+    beam_energy_unc_mev: Option<f64>,
+    scan_vp: (VpChoice, &Arc<dyn Polarisation>),
+    scan_vp_variations: &[(String, Arc<dyn Polarisation>)],
+) -> Result<(LuminositySource, f64), ScanError> {
+    use crate::lumi::{CardError, LumiPlan, Monitor, VpModels};
+    let given = [
+        lumi.visible_sigma_times_s_nb_gev2.is_some(),
+        lumi.monitor_card.is_some(),
+        lumi.monitor.is_some(),
+    ];
+    if given.iter().filter(|g| **g).count() > 1 {
+        return Err(card_err(
+            if lumi.monitor.is_some() {
+                "luminosity.monitor"
+            } else {
+                "luminosity.monitor_card"
+            },
+            "more than one luminosity monitor; allowed: one of visible_sigma_times_s_nb_gev2, \
+             monitor_card, [luminosity.monitor]",
+        ));
+    }
+    let energy_unc_mev = beam_energy_unc_mev.map_or(Ok(0.0), |x| {
+        in_range("beam.energy_unc_mev", x, 0.0, 1e4, false)
+    })?;
+    if let Some(c) = lumi.visible_sigma_times_s_nb_gev2 {
+        let c = in_range(
+            "luminosity.visible_sigma_times_s_nb_gev2",
+            c,
+            0.0,
+            1e12,
+            true,
+        )?;
+        let fixed: Arc<dyn CrossSection + Send> = Arc::new(InverseS { nb_gev2: c });
+        return Ok((
+            LuminositySource {
+                visible: Some(MonitorSigma::Fixed(fixed)),
+                describe: format!("luminosity monitor sigma_vis = {c} nb GeV^2 / s"),
+            },
+            energy_unc_mev,
+        ));
+    }
+    type KeyError = Box<dyn Fn(&str, String) -> ScanError>;
+    // Errors of the monitor card under the scan card's key: `luminosity.monitor.<key>`
+    // inline, or `luminosity.monitor_card` with the file and its own key.
+    let (raw, origin, err): (_, _, KeyError) =
+        match (&lumi.monitor, &lumi.monitor_card, &lumi.monitor_card_read) {
+            (Some(raw), _, _) => (
+                raw.clone(),
+                "inline [luminosity.monitor]".to_string(),
+                Box::new(|k: &str, m: String| card_err(&format!("luminosity.monitor.{k}"), m)),
+            ),
+            (None, Some(_), Some((shown, raw))) => {
+                let shown = shown.clone();
+                (
+                    raw.clone(),
+                    format!("card {shown}"),
+                    Box::new(move |k: &str, m: String| {
+                        card_err("luminosity.monitor_card", format!("{shown}: {k}: {m}"))
+                    }),
+                )
+            }
+            (None, Some(_), None) => {
+                return Err(card_err(
+                    "luminosity.monitor_card",
+                    "the file was not read; read the scan card with parse_scan_card",
+                ));
+            }
+            (None, None, _) => {
+                return Ok((
+                    LuminositySource {
+                        visible: None,
+                        describe: "luminosity given per point".into(),
+                    },
+                    energy_unc_mev,
+                ));
+            }
+        };
+    if let Some(e) = raw.sqrt_s_gev {
+        return Err(err(
+            "sqrt_s_gev",
+            format!("{e}; not allowed in a scan (each point has its own energy): remove it"),
+        ));
+    }
+    let monitor_unc_gev = raw.uncertainty.sqrt_s_gev;
+    let mut plan = LumiPlan::try_from(raw).map_err(|e| match e {
+        CardError::Invalid { key, message } => err(&key, message),
+        other => err("", other.to_string()),
+    })?;
+    // One centre-of-mass energy uncertainty moves σ_vis and the correction factors alike.
+    let energy_unc_mev = match (beam_energy_unc_mev, monitor_unc_gev) {
+        (Some(_), Some(g))
+            if (g * 1e3 - energy_unc_mev).abs() > 1e-9 * energy_unc_mev.max(1e-3) =>
+        {
+            return Err(err(
+                "uncertainty.sqrt_s_gev",
+                format!(
+                    "{g} GeV differs from beam.energy_unc_mev = {energy_unc_mev} MeV; one \
+                     centre-of-mass energy uncertainty moves the monitor and the correction \
+                     together; allowed: give it once, or the same value in both"
+                ),
+            ));
+        }
+        (None, Some(_)) => plan.uncertainty.sqrt_s_gev * 1e3,
+        _ => energy_unc_mev,
+    };
+    plan.uncertainty.sqrt_s_gev = energy_unc_mev * 1e-3;
+    let vp = if plan.vp == VpChoice::Full && scan_vp.0 == VpChoice::Full {
+        VpModels {
+            nominal: Some(scan_vp.1.clone()),
+            variations: scan_vp_variations
+                .iter()
+                .map(|(name, v)| (name.trim_start_matches("vp:").to_string(), v.clone()))
+                .collect(),
+        }
+    } else {
+        VpModels::standard(plan.vp)
+    };
+    let monitor = Monitor::with_vp(plan, vp).map_err(|e| err("", e.to_string()))?;
+    let describe = format!("luminosity monitor ({origin}): {}", monitor.describe());
+    Ok((
+        LuminositySource {
+            visible: Some(MonitorSigma::Layer(Arc::new(monitor))),
+            describe,
         },
-        other => other,
-    })
+        energy_unc_mev,
+    ))
 }
 
 /// The radiator scheme named `name` (the ISR layer's short names; `none` is no radiation).
@@ -347,24 +672,13 @@ impl TryFrom<RawScanCard> for ScanPlan {
         let unc = |key: &str, v: Option<f64>, hi: f64| {
             v.map_or(Ok(0.0), |x| in_range(key, x, 0.0, hi, false))
         };
-        let visible = raw
-            .luminosity
-            .visible_sigma_times_s_nb_gev2
-            .map(|c| {
-                in_range(
-                    "luminosity.visible_sigma_times_s_nb_gev2",
-                    c,
-                    0.0,
-                    1e12,
-                    true,
-                )
-                .map(|c| Arc::new(InverseS { nb_gev2: c }) as Arc<dyn CrossSection + Send>)
-            })
-            .transpose()?;
-        let describe = match raw.luminosity.visible_sigma_times_s_nb_gev2 {
-            Some(c) => format!("luminosity monitor sigma_vis = {c} nb GeV^2 / s"),
-            None => "luminosity given per point".into(),
-        };
+        let vp_variations = vp_variations(vp_choice);
+        let (luminosity, energy_unc_mev) = luminosity_monitor(
+            &raw.luminosity,
+            raw.beam.energy_unc_mev,
+            (vp_choice, &vp),
+            &vp_variations,
+        )?;
         let mut resonances = Vec::new();
         for (i, r) in raw.resonance.iter().enumerate() {
             let key = |k: &str| format!("resonance[{i}].{k}");
@@ -379,7 +693,10 @@ impl TryFrom<RawScanCard> for ScanPlan {
         let mut relative_terms = Vec::new();
         for (i, u) in raw.uncertainty.iter().enumerate() {
             let reserved = ["stat", "luminosity_stat", "luminosity_scale", "efficiency"];
-            if reserved.contains(&u.name.as_str()) || u.name.starts_with("radiator:") {
+            if reserved.contains(&u.name.as_str())
+                || u.name.starts_with("radiator:")
+                || u.name.starts_with("luminosity:")
+            {
                 return Err(card_err(
                     &format!("uncertainty[{i}].name"),
                     format!("'{}' is a built-in source name; choose another", u.name),
@@ -411,7 +728,7 @@ impl TryFrom<RawScanCard> for ScanPlan {
             vp,
             resonances,
             settings,
-            luminosity: LuminositySource { visible, describe },
+            luminosity,
             luminosity_scale_rel: unc(
                 "luminosity.scale_unc_rel",
                 raw.luminosity.scale_unc_rel,
@@ -419,7 +736,7 @@ impl TryFrom<RawScanCard> for ScanPlan {
             )?,
             efficiency_rel: unc("efficiency.unc_rel", raw.efficiency.unc_rel, 1.0)?,
             relative_terms,
-            energy_unc_mev: unc("beam.energy_unc_mev", raw.beam.energy_unc_mev, 1e4)?,
+            energy_unc_mev,
             energy_spread_mev: unc("beam.energy_spread_mev", raw.beam.energy_spread_mev, 1e4)?,
             energy_spread_rel: unc(
                 "beam.energy_spread_unc_rel",
@@ -427,7 +744,7 @@ impl TryFrom<RawScanCard> for ScanPlan {
                 1.0,
             )?,
             alternative_radiators,
-            vp_variations: vp_variations(vp_choice),
+            vp_variations,
         })
     }
 }
