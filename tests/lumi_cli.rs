@@ -228,3 +228,74 @@ fn bad_input_names_file_line_field_and_writes_nothing() {
         "{err}"
     );
 }
+
+/// Run `radnorm lumi` and return (exit code, stderr, stdout).
+fn lumi(args: &[&str]) -> (Option<i32>, String, String) {
+    let o = radnorm().arg("lumi").args(args).output().unwrap();
+    (
+        o.status.code(),
+        String::from_utf8_lossy(&o.stderr).into_owned(),
+        String::from_utf8_lossy(&o.stdout).into_owned(),
+    )
+}
+
+/// The acceptance of the examples, with the `(flag, value)` pairs of `with` replacing or
+/// adding to it.
+fn flags<'a>(process: &'a str, sqrt_s: &'a str, with: &[&'a str]) -> Vec<&'a str> {
+    let mut pairs = vec![
+        ["--process", process],
+        ["--sqrt-s", sqrt_s],
+        ["--theta-min-deg", "40"],
+        ["--theta-max-deg", "140"],
+        ["--e-min-frac", "0.5"],
+        ["--vp", "none"],
+    ];
+    for w in with.chunks(2) {
+        match pairs.iter_mut().find(|p| p[0] == w[0]) {
+            Some(p) => p[1] = w[1],
+            None => pairs.push([w[0], w[1]]),
+        }
+    }
+    pairs.concat()
+}
+
+#[test]
+fn below_the_muon_pair_threshold_is_a_clear_error() {
+    // 2 m_μ = 0.211316751 GeV (CODATA 2022 m_μ = 0.1056583755 GeV): σ_vis = 0 below it,
+    // so no luminosity can be normalised to it.
+    for born_only in [false, true] {
+        let mut args = flags("mumu", "0.2", &[]);
+        if born_only {
+            args.push("--born-only");
+        }
+        let (code, err, _) = lumi(&args);
+        assert_eq!(code, Some(2), "{err}");
+        assert!(
+            err.contains("--sqrt-s 0.2")
+                && err.contains("threshold 0.2113")
+                && err.contains("allowed")
+                && !err.contains("NaN"),
+            "{err}"
+        );
+    }
+    // From a counts file: the file, line and field are named.
+    let dir = tempfile::tempdir().unwrap();
+    let (card, data) = (dir.path().join("mumu.toml"), dir.path().join("counts.csv"));
+    fs::write(&card, CARD.replace("\"ee\"", "\"mumu\"")).unwrap();
+    fs::write(
+        &data,
+        "run,sqrt_s_gev,n_bhabha,n_bhabha_bkg,bhabha_efficiency\nr1,3.0,100,1,0.9\nr2,0.2,100,1,0.9\n",
+    )
+    .unwrap();
+    let (code, err, _) = lumi(&[
+        "--card",
+        card.to_str().unwrap(),
+        "--data",
+        data.to_str().unwrap(),
+    ]);
+    assert_eq!(code, Some(2), "{err}");
+    assert!(
+        err.contains("counts.csv, line 3, field sqrt_s_gev") && err.contains("threshold"),
+        "{err}"
+    );
+}

@@ -65,7 +65,9 @@ impl Prediction {
 /// radiation changes a VP shift only at O(α · δΠ), far below the shift itself.
 ///
 /// # Errors
-/// A variation that leaves the valid range (an edge moved past 0° or 180°, …).
+/// An energy at or below the channel's threshold ([`VisibleError::BelowThreshold`]: σ_vis
+/// is 0 there, no luminosity follows from it); a variation that leaves the valid range (an
+/// edge moved past 0° or 180°, …).
 pub fn predict<'a>(
     visible: &Visible<'a>,
     vp: Option<&'a dyn Polarisation>,
@@ -73,6 +75,14 @@ pub fn predict<'a>(
     unc: &Uncertainties,
     sqrt_s_gev: f64,
 ) -> Result<Prediction, VisibleError> {
+    let threshold_gev = visible.channel().threshold_gev();
+    if sqrt_s_gev <= threshold_gev {
+        return Err(VisibleError::BelowThreshold {
+            channel: visible.channel().key(),
+            sqrt_s_gev,
+            threshold_gev,
+        });
+    }
     let s = sqrt_s_gev * sqrt_s_gev;
     let acc = *visible.acceptance();
     let settings = *visible.settings();

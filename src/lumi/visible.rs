@@ -49,6 +49,11 @@ impl Channel {
         }
     }
 
+    /// The production threshold in √s, GeV: twice the final lepton mass (0 for photons).
+    pub fn threshold_gev(self) -> f64 {
+        self.final_mass_gev().map_or(0.0, |m| 2.0 * m)
+    }
+
     /// The final lepton mass (None for photons).
     fn final_mass_gev(self) -> Option<f64> {
         match self {
@@ -100,6 +105,14 @@ pub enum VisibleError {
         "e_min_frac = 0 with radiation on: without an energy cut σ_vis grows without bound as both beams radiate; allowed: 0 < e_min_frac < 1 (or born_only)"
     )]
     NoEnergyCut,
+    #[error(
+        "sqrt_s_gev = {sqrt_s_gev} is at or below the {channel} threshold {threshold_gev} GeV, where σ_vis = 0 (nothing to normalise to); allowed: sqrt_s_gev > {threshold_gev} GeV"
+    )]
+    BelowThreshold {
+        channel: &'static str,
+        sqrt_s_gev: f64,
+        threshold_gev: f64,
+    },
 }
 
 /// How σ_vis is computed: radiation on or off, the scale, the precision, Z exchange.
@@ -264,11 +277,23 @@ impl<'a> Visible<'a> {
         Visible::new(self.channel, acceptance, vp, settings)
     }
 
-    /// σ_vis in nb at s (GeV²).
+    /// σ_vis in nb at s (GeV²); 0 at or below the channel's threshold.
     ///
     /// # Errors
     /// A structure-function scale below e·m² (energies far too low for the leading log).
     pub fn sigma_vis(&self, s: f64) -> Result<SigmaVis, VisibleError> {
+        if s <= self.channel.threshold_gev().powi(2) {
+            // Radiation only lowers ŝ: nothing is produced at or below threshold (and the
+            // |t̄| scale, a mean over a vanishing σ, is not defined there).
+            return Ok(SigmaVis {
+                sigma_nb: 0.0,
+                error_nb: 0.0,
+                converged: true,
+                evaluations: 0,
+                q2_gev2: 0.0,
+                beta: 0.0,
+            });
+        }
         let born_point = Point {
             s,
             vp_t: None,
