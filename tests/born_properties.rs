@@ -58,3 +58,34 @@ proptest! {
         }
     }
 }
+
+/// R and σ_had vanish at and below the π⁺π⁻ threshold 2m_π± = 0.27914078 GeV (PDG 2026
+/// m_π± = 139.57039 MeV) — also at m_π⁰ and 2m_π⁰ (π⁰π⁰ is C-forbidden for one photon, π⁰γ
+/// has no channel of its own in the model) and at a √s so small that σ_pt = 4πα²/3s
+/// overflows — and are positive just above it.
+#[test]
+fn hadrons_vanish_below_the_two_pion_threshold() {
+    use radnorm::process::{Hadrons, RRatio};
+    use radnorm::rmodel::RModel;
+    let model = RModel::standard();
+    let s_th = model.s_threshold();
+    assert!(
+        (s_th.sqrt() / (2.0 * 0.139_570_39) - 1.0).abs() < 1e-8,
+        "{s_th}"
+    );
+    let hadrons = Hadrons::new(model.clone());
+    for sqrt_s in [1e-160, 1e-10, 0.1, 0.134_977, 0.2, 0.269_954, 0.279_14] {
+        let s = sqrt_s * sqrt_s;
+        assert_eq!(model.r(s), 0.0, "R at sqrt_s = {sqrt_s} GeV");
+        assert_eq!(hadrons.sigma_nb(s), 0.0, "sigma at sqrt_s = {sqrt_s} GeV");
+    }
+    assert_eq!(model.r(s_th), 0.0, "R exactly at threshold");
+    assert_eq!(hadrons.sigma_nb(0.0), 0.0);
+    for sqrt_s in [0.2792, 0.3, 0.78] {
+        let sigma = hadrons.sigma_nb(sqrt_s * sqrt_s);
+        assert!(
+            sigma.is_finite() && sigma > 0.0,
+            "sqrt_s = {sqrt_s}: {sigma}"
+        );
+    }
+}

@@ -171,3 +171,16 @@ fn bad_input_is_a_clear_error() {
         assert!(!err.contains("panicked"), "{args:?}: {err}");
     }
 }
+
+#[test]
+fn hadrons_are_zero_below_the_two_pion_threshold() {
+    // 2m_π± = 0.27914 GeV (PDG 2026 m_π± = 139.57039 MeV): R = 0 below, so σ = 0 exactly.
+    let v = json(&["born", "--process", "hadrons", "--sqrt-s", "0.1:0.2:2"]);
+    for row in v.as_array().unwrap() {
+        assert_eq!(row["sigma_nb"].as_f64(), Some(0.0), "{row}");
+    }
+    let v = json(&["born", "--process", "hadrons", "--sqrt-s", "0.2791"]);
+    assert_eq!(v["sigma_nb"].as_f64(), Some(0.0));
+    let v = json(&["born", "--process", "hadrons", "--sqrt-s", "0.3"]);
+    assert!(v["sigma_nb"].as_f64().unwrap() > 0.0);
+}

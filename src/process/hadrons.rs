@@ -56,7 +56,13 @@ impl<R: RRatio> Hadrons<R> {
 
 impl<R: RRatio> CrossSection for Hadrons<R> {
     fn sigma_nb(&self, s_gev2: f64) -> f64 {
-        sigma_point_nb(s_gev2) * self.model.r(s_gev2)
+        // R = 0 is checked first: σ_pt ∝ 1/s overflows for a tiny s, and ∞·0 is NaN.
+        let r = self.model.r(s_gev2);
+        if r == 0.0 {
+            0.0
+        } else {
+            sigma_point_nb(s_gev2) * r
+        }
     }
     fn threshold_s_gev2(&self) -> f64 {
         self.model.threshold_s_gev2()

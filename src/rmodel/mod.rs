@@ -426,7 +426,21 @@ impl RModel {
 }
 
 impl RRatio for RModel {
+    /// R(s): zero at and below the π⁺π⁻ threshold 4m_π±² ([`RModel::s_threshold`]).
+    ///
+    /// Why 2m_π±: it is the lowest channel the model describes with its own threshold
+    /// behaviour. 2m_π⁰ is no threshold at all: one photon (C = −1) cannot make π⁰π⁰
+    /// (C = +1). π⁰γ (open from m_π⁰) and ηγ are in the model only inside the constant-width
+    /// ω and φ Breit–Wigners, whose tail below 2m_π± is the whole ω width (mostly 3π, open
+    /// only above 3m_π) without the k³ phase space of a radiative decay: ≈ 0.3 nb at
+    /// √s = 0.1–0.2 GeV, where ρ/ω vector dominance puts σ(π⁰γ) at ~10⁻³ nb or below (an
+    /// estimate). Cutting at 2m_π± removes that artefact and loses no modelled physics.
+    /// The hadronic VP keeps the full Breit–Wigners (its closed forms need them); their
+    /// tail's share of Δα_had is of relative size (Γ/M)².
     fn r(&self, s_gev2: f64) -> f64 {
+        if s_gev2 <= self.s_th {
+            return 0.0;
+        }
         let bw: f64 = self.resonances.iter().map(|r| r.r(s_gev2)).sum();
         self.r_smooth(s_gev2) + bw
     }
