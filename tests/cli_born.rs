@@ -184,3 +184,121 @@ fn hadrons_are_zero_below_the_two_pion_threshold() {
     let v = json(&["born", "--process", "hadrons", "--sqrt-s", "0.3"]);
     assert!(v["sigma_nb"].as_f64().unwrap() > 0.0);
 }
+
+/// Run `radnorm born` on bad input: exit code 2, a message that names `flag`, says what is
+/// allowed, and is ours (not clap's "unexpected argument").
+fn born_fails(args: &[&str], flag: &str) -> String {
+    let out = radnorm().arg("born").args(args).output().unwrap();
+    let err = String::from_utf8_lossy(&out.stderr).into_owned();
+    assert_eq!(out.status.code(), Some(2), "{args:?}: {err}");
+    assert!(
+        err.contains(flag) && err.contains("allowed") && !err.contains("unexpected argument"),
+        "{args:?}: message does not name {flag} and its range: {err}"
+    );
+    err
+}
+
+#[test]
+fn negative_values_reach_our_validation() {
+    born_fails(&["--process", "mumu", "--sqrt-s", "-3"], "--sqrt-s -3");
+    born_fails(
+        &["--process", "mumu", "--sqrt-s", "-3:5:2"],
+        "--sqrt-s -3:5:2",
+    );
+    let window = |lo: &'static str, hi: &'static str| {
+        [
+            "--process",
+            "ee",
+            "--sqrt-s",
+            "3",
+            "--theta-min-deg",
+            lo,
+            "--theta-max-deg",
+            hi,
+        ]
+    };
+    born_fails(&window("-5", "140"), "--theta-min-deg -5");
+    born_fails(&window("40", "-140"), "--theta-max-deg -140");
+    born_fails(
+        &["--process", "hadrons", "--sqrt-s", "3", "--r-const", "-1"],
+        "--r-const -1",
+    );
+}
+
+#[test]
+fn energies_outside_the_representable_range_are_a_range_error() {
+    // σ_pt ∝ 1/s overflows at √s = 1e-160 GeV; s = √s² overflows at √s = 1e155 GeV.
+    for (process, e) in [
+        ("hadrons", "1e-160"),
+        ("hadrons", "1e155"),
+        ("mumu", "1e160"),
+    ] {
+        born_fails(&["--process", process, "--sqrt-s", e], "--sqrt-s");
+    }
+    born_fails(
+        &[
+            "--process",
+            "ee",
+            "--sqrt-s",
+            "1e-160",
+            "--theta-min-deg",
+            "40",
+            "--theta-max-deg",
+            "140",
+        ],
+        "1e-100",
+    );
+}
+
+#[test]
+fn cos_theta_at_a_pole_is_a_range_error_and_outside_the_window_a_note() {
+    let args = |p: &'static str, c: &'static str| {
+        [
+            "--process",
+            p,
+            "--sqrt-s",
+            "3",
+            "--theta-min-deg",
+            "40",
+            "--theta-max-deg",
+            "140",
+            "--cos-theta",
+            c,
+        ]
+    };
+    // Bhabha: the t-channel photon pole at cosθ = 1; γγ: the poles at cosθ = ±1.
+    let err = born_fails(&args("ee", "1"), "--cos-theta 1");
+    assert!(err.contains("cos-theta < 1"), "{err}");
+    let err = born_fails(&args("gg", "1"), "--cos-theta 1");
+    assert!(err.contains("-1 < cos-theta < 1"), "{err}");
+    born_fails(&args("gg", "-1"), "--cos-theta -1");
+    // Backward Bhabha is finite; outside the 40–140° window the differential is reported
+    // and the output says that σ does not count that angle.
+    let out = radnorm()
+        .arg("born")
+        .args(args("ee", "-1"))
+        .args(["--format", "csv"])
+        .output()
+        .unwrap();
+    assert!(out.status.success());
+    let text = String::from_utf8(out.stdout).unwrap();
+    assert!(
+        text.lines()
+            .any(|l| l.starts_with("# cos_theta = -1 is outside the window")),
+        "{text}"
+    );
+    let row = text.lines().last().unwrap();
+    let dsigma: f64 = row.rsplit(',').next().unwrap().parse().unwrap();
+    assert!(dsigma.is_finite() && dsigma > 0.0, "{row}");
+    // Fermion pairs have no pole: cosθ = 1 is allowed.
+    let v = json(&[
+        "born",
+        "--process",
+        "mumu",
+        "--sqrt-s",
+        "3",
+        "--cos-theta",
+        "1",
+    ]);
+    assert!(v["dsigma_dcos_nb"].as_f64().unwrap() > 0.0);
+}

@@ -53,13 +53,15 @@ pub struct BornArgs {
     #[arg(long, value_enum)]
     process: ProcessName,
     /// Centre-of-mass energy in GeV: a value or a grid start:stop:count (ends included).
-    #[arg(long, value_name = "GEV")]
+    // Hyphen values reach our validation, which names the range (clap would only say
+    // "unexpected argument").
+    #[arg(long, value_name = "GEV", allow_hyphen_values = true)]
     sqrt_s: String,
     /// Both final particles above this polar angle (degrees). Required for ee and gg.
-    #[arg(long, value_name = "DEG")]
+    #[arg(long, value_name = "DEG", allow_negative_numbers = true)]
     theta_min_deg: Option<f64>,
     /// Both final particles below this polar angle (degrees).
-    #[arg(long, value_name = "DEG")]
+    #[arg(long, value_name = "DEG", allow_negative_numbers = true)]
     theta_max_deg: Option<f64>,
     /// Include Z exchange (improved Born: G_mu κ, sin²θ_eff; A_FB is reported).
     #[arg(long)]
@@ -70,22 +72,48 @@ pub struct BornArgs {
     /// Multiply by the Coulomb (Sommerfeld–Sakharov) threshold factor (fermion pairs).
     #[arg(long)]
     coulomb: bool,
-    /// Also report dσ/dcosθ of the first final particle at this cosθ.
+    /// Also report dσ/dcosθ of the first final particle at this cosθ: −1 ≤ C ≤ 1, but
+    /// C < 1 for ee and −1 < C < 1 for gg, where dσ/dcosθ has its poles. A C outside the
+    /// θ window is allowed (the differential does not depend on the window) and noted.
     #[arg(long, value_name = "C", allow_negative_numbers = true)]
     cos_theta: Option<f64>,
     /// A constant R ratio for hadrons (σ = σ_pt·R) instead of the default R model.
-    #[arg(long, value_name = "R")]
+    #[arg(long, value_name = "R", allow_negative_numbers = true)]
     r_const: Option<f64>,
     #[command(flatten)]
     output: OutputArgs,
 }
 
+/// The energies `born` accepts, GeV: beyond them s = √s² or σ ∝ 1/s leaves the range of
+/// a double (σ_ee at √s = 1e-160 GeV overflows; s overflows above √s ≈ 1.3e154 GeV).
+const SQRT_S_RANGE_GEV: (f64, f64) = (1e-100, 1e100);
+
 pub fn run(args: BornArgs) -> Result<()> {
     let grid = parse_energy_grid("--sqrt-s", &args.sqrt_s)?;
-    if let Some(c) = args.cos_theta
-        && !(-1.0..=1.0).contains(&c)
-    {
-        bail!("--cos-theta {c}: not allowed; allowed: -1 ≤ cos-theta ≤ 1");
+    let (e_lo, e_hi) = SQRT_S_RANGE_GEV;
+    if let Some(bad) = grid.points().iter().find(|&&e| !(e_lo..=e_hi).contains(&e)) {
+        bail!(
+            "--sqrt-s {}: {bad:e} is not allowed; allowed: {e_lo:e} ≤ sqrt_s ≤ {e_hi:e} GeV (beyond, s or σ leaves the floating-point range)",
+            args.sqrt_s
+        );
+    }
+    if let Some(c) = args.cos_theta {
+        // dσ/dcosθ is infinite at the poles of the t-channel photon (ee: cosθ = 1) and of
+        // the t- and u-channel electron (gg: cosθ = ±1).
+        let (ok, allowed) = match args.process {
+            ProcessName::Ee => (
+                (-1.0..1.0).contains(&c),
+                "-1 ≤ cos-theta < 1 for --process ee (dσ/dcosθ has the t-channel pole at cosθ = 1)",
+            ),
+            ProcessName::Gg => (
+                c > -1.0 && c < 1.0,
+                "-1 < cos-theta < 1 for --process gg (dσ/dcosθ has poles at cosθ = ±1)",
+            ),
+            _ => ((-1.0..=1.0).contains(&c), "-1 ≤ cos-theta ≤ 1"),
+        };
+        if !ok {
+            bail!("--cos-theta {c}: not allowed; allowed: {allowed}");
+        }
     }
     let range = match (args.theta_min_deg, args.theta_max_deg) {
         (None, None) => match args.process {
@@ -121,6 +149,17 @@ pub fn run(args: BornArgs) -> Result<()> {
     }
     if args.coulomb {
         notes.push("Coulomb (Sommerfeld-Sakharov) threshold factor on".into());
+    }
+    // Hadrons have no window: their σ is the total one.
+    if let Some(c) = args.cos_theta
+        && args.process != ProcessName::Hadrons
+        && !(range.lo()..=range.hi()).contains(&c)
+    {
+        notes.push(format!(
+            "cos_theta = {c} is outside the window [{:.9}, {:.9}]: dsigma_dcos_nb is the differential there (it does not depend on the window); sigma_nb counts the window only",
+            range.lo(),
+            range.hi()
+        ));
     }
 
     let fermion = |mut f: FermionPair| {
