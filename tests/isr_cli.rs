@@ -222,3 +222,41 @@ fn help_lists_the_radiators() {
         assert!(text.contains(name), "--help lacks {name}");
     }
 }
+
+/// Negative values reach our validation (clap would stop at "unexpected argument '-0.1'"):
+/// exit code 2 and a message naming the flag, the value and the allowed range.
+#[test]
+fn negative_values_are_named_with_their_range() {
+    let base = ["--process", "mumu", "--sqrt-s", "10", "--vp", "none"];
+    let cases: &[(&[&str], &str)] = &[
+        (&["--x-max", "-0.1"], "--x-max -0.1"),
+        (&["--min-mass-gev", "-1"], "--min-mass-gev -1"),
+        (&["--max-photon-gev", "-1"], "--max-photon-gev -1"),
+        (&["--energy-spread-mev", "-5"], "--energy-spread-mev -5"),
+    ];
+    let mut all: Vec<(Vec<&str>, &str)> = cases
+        .iter()
+        .map(|(extra, needle)| ([&base[..], extra].concat(), *needle))
+        .collect();
+    all.push((
+        vec!["--process", "mumu", "--sqrt-s", "-10", "--vp", "none"],
+        "--sqrt-s -10",
+    ));
+    all.push((
+        vec!["--process", "mumu", "--sqrt-s", "-10:10:3", "--vp", "none"],
+        "--sqrt-s -10:10:3",
+    ));
+    all.push((
+        vec!["--process", "hadrons", "--sqrt-s", "3", "--r-const", "-2"],
+        "--r-const -2",
+    ));
+    for (args, needle) in all {
+        let out = radnorm().arg("isr").args(&args).output().unwrap();
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert_eq!(out.status.code(), Some(2), "{args:?}: {err}");
+        assert!(
+            err.contains(needle) && err.contains("allowed") && !err.contains("unexpected"),
+            "{args:?}: {err}"
+        );
+    }
+}

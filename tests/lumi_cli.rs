@@ -299,3 +299,48 @@ fn below_the_muon_pair_threshold_is_a_clear_error() {
         "{err}"
     );
 }
+
+#[test]
+fn negative_values_are_named_with_their_range() {
+    // Without allow_negative_numbers clap stops at "unexpected argument '-10' found".
+    let cases: &[(Vec<&str>, &str, &str)] = &[
+        (flags("ee", "-10", &[]), "--sqrt-s", "-10"),
+        (flags("ee", "-10:10:3", &[]), "--sqrt-s", "-10:10:3"),
+        (
+            flags("ee", "10", &["--theta-min-deg", "-5"]),
+            "--theta-min-deg",
+            "-5",
+        ),
+        (
+            flags("ee", "10", &["--theta-max-deg", "-140"]),
+            "--theta-max-deg",
+            "-140",
+        ),
+        (
+            flags("ee", "10", &["--acol-max-deg", "-1"]),
+            "--acol-max-deg",
+            "-1",
+        ),
+        (
+            flags("ee", "10", &["--e-min-frac", "-0.5"]),
+            "--e-min-frac",
+            "-0.5",
+        ),
+        (
+            flags("ee", "10", &["--precision", "-1"]),
+            "--precision",
+            "-1",
+        ),
+    ];
+    for (args, flag, value) in cases {
+        let (code, err, _) = lumi(args);
+        assert_eq!(code, Some(2), "{args:?}: {err}");
+        assert!(
+            err.contains(flag)
+                && err.contains(value)
+                && err.contains("allowed")
+                && !err.contains("unexpected"),
+            "{args:?}: {err}"
+        );
+    }
+}

@@ -229,6 +229,14 @@ fn bad_points_are_errors() {
     assert!(failure(&["alpha", "--q2", "abc"]).contains("--q2"));
     assert!(failure(&["alpha", "--q2", "-1e11"]).contains("|q2|"));
     assert!(failure(&["alpha", "--sqrt-s", "-3"]).contains("--sqrt-s"));
+    // A negative energy reaches our validation (not clap's "unexpected argument '-3'").
+    for bad in ["-3", "-3:3:3"] {
+        let err = failure(&["alpha", "--sqrt-s", bad]);
+        assert!(
+            err.contains(&format!("--sqrt-s {bad}")) && err.contains("allowed"),
+            "{err}"
+        );
+    }
     assert!(failure(&["alpha"]).contains("--q2"));
     assert!(failure(&["alpha", "--q2", "-1", "--sqrt-s", "3"]).contains("cannot be used"));
 }

@@ -31,7 +31,8 @@ pub struct AlphaArgs {
     #[arg(long, value_name = "GEV2", allow_hyphen_values = true)]
     q2: Option<String>,
     /// Timelike point(s) q² = s given as √s in GeV: a value or a grid start:stop:count.
-    #[arg(long, value_name = "GEV")]
+    // Hyphen values reach our validation, which names the allowed range.
+    #[arg(long, value_name = "GEV", allow_hyphen_values = true)]
     sqrt_s: Option<String>,
     /// A user R table (CSV `sqrt_s_gev,r,r_stat,r_syst`) replacing the model over its range.
     #[arg(long, value_name = "FILE")]

@@ -72,16 +72,18 @@ pub struct IsrArgs {
     #[arg(long, value_enum)]
     process: IsrProcess,
     /// Centre-of-mass energy in GeV: a value or a grid start:stop:count (ends included).
-    #[arg(long, value_name = "GEV")]
+    // Negative numbers and hyphen values reach our validation, which names the allowed
+    // range (clap would only say "unexpected argument").
+    #[arg(long, value_name = "GEV", allow_hyphen_values = true)]
     sqrt_s: String,
     /// Upper limit on x = 1 − s′/s, 0 < x ≤ 1 (default: the kinematic limit).
-    #[arg(long, value_name = "X")]
+    #[arg(long, value_name = "X", allow_negative_numbers = true)]
     x_max: Option<f64>,
     /// Minimum final-state invariant mass √s′ in GeV.
-    #[arg(long, value_name = "GEV")]
+    #[arg(long, value_name = "GEV", allow_negative_numbers = true)]
     min_mass_gev: Option<f64>,
     /// Maximum ISR photon energy in the centre-of-mass frame, GeV (x ≤ 2E/√s).
-    #[arg(long, value_name = "GEV")]
+    #[arg(long, value_name = "GEV", allow_negative_numbers = true)]
     max_photon_gev: Option<f64>,
     /// Radiator scheme.
     #[arg(long, value_enum, default_value_t = RadiatorName::Kf2)]
@@ -99,7 +101,7 @@ pub struct IsrArgs {
     #[arg(long)]
     compare_radiators: bool,
     /// A constant R ratio for hadrons instead of the default R model.
-    #[arg(long, value_name = "R")]
+    #[arg(long, value_name = "R", allow_negative_numbers = true)]
     r_const: Option<f64>,
     #[command(flatten)]
     output: OutputArgs,
