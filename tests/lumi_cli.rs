@@ -344,3 +344,31 @@ fn negative_values_are_named_with_their_range() {
         );
     }
 }
+
+#[test]
+fn card_errors_name_only_flags_that_exist() {
+    let dir = tempfile::tempdir().unwrap();
+    let card = dir.path().join("lumi.toml");
+    // An uncertainty is a card key without a flag.
+    fs::write(
+        &card,
+        CARD.replace("theta_edge_deg = 0.01", "theta_edge_deg = -0.01"),
+    )
+    .unwrap();
+    let (code, err, _) = lumi(&["--card", card.to_str().unwrap(), "--sqrt-s", "10"]);
+    assert_eq!(code, Some(2), "{err}");
+    assert!(
+        err.contains("uncertainty.theta_edge_deg")
+            && err.contains("allowed")
+            && !err.contains("--theta-edge-deg"),
+        "{err}"
+    );
+    // The card's energy is set on the command line by --sqrt-s (there is no --sqrt-s-gev).
+    fs::write(&card, format!("sqrt_s_gev = -10.0\n{CARD}")).unwrap();
+    let (code, err, _) = lumi(&["--card", card.to_str().unwrap()]);
+    assert_eq!(code, Some(2), "{err}");
+    assert!(
+        err.contains("sqrt_s_gev") && err.contains("--sqrt-s)") && !err.contains("--sqrt-s-gev"),
+        "{err}"
+    );
+}
