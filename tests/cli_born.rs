@@ -302,3 +302,13 @@ fn cos_theta_at_a_pole_is_a_range_error_and_outside_the_window_a_note() {
     ]);
     assert!(v["dsigma_dcos_nb"].as_f64().unwrap() > 0.0);
 }
+
+#[test]
+fn a_grid_of_one_point_is_an_array() {
+    // The output contract: a value gives one object, a grid an array, whatever its length.
+    let v = json(&["born", "--process", "mumu", "--sqrt-s", "3:3:1"]);
+    let rows = v.as_array().expect("a grid gives an array");
+    assert_eq!(rows.len(), 1);
+    assert_eq!(rows[0]["sqrt_s_gev"].as_f64(), Some(3.0));
+    assert!(json(&["born", "--process", "mumu", "--sqrt-s", "3"]).is_object());
+}

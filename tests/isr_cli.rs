@@ -260,3 +260,9 @@ fn negative_values_are_named_with_their_range() {
         );
     }
 }
+
+#[test]
+fn a_grid_of_one_point_is_an_array() {
+    let v = json(&["--process", "mumu", "--sqrt-s", "3:3:1", "--vp", "none"]);
+    assert_eq!(v.as_array().expect("a grid gives an array").len(), 1);
+}

@@ -372,3 +372,26 @@ fn card_errors_name_only_flags_that_exist() {
         "{err}"
     );
 }
+
+#[test]
+fn a_grid_of_one_point_is_an_array() {
+    let one = |sqrt_s: &str| -> Value {
+        let (code, err, out) = lumi(&[
+            "--process",
+            "gg",
+            "--sqrt-s",
+            sqrt_s,
+            "--theta-min-deg",
+            "40",
+            "--theta-max-deg",
+            "140",
+            "--born-only",
+            "--format",
+            "json",
+        ]);
+        assert_eq!(code, Some(0), "{err}");
+        serde_json::from_str(&out).unwrap()
+    };
+    assert_eq!(one("10:10:1").as_array().expect("an array").len(), 1);
+    assert!(one("10").is_object());
+}

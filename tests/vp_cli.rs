@@ -37,6 +37,16 @@ fn failure(args: &[&str]) -> String {
 }
 
 #[test]
+fn a_grid_of_one_point_is_an_array() {
+    // The output contract: a value gives one object, any grid an array.
+    for flag in ["--q2", "--sqrt-s"] {
+        let v = json(&["alpha", flag, "3:3:1"]);
+        assert_eq!(v.as_array().map(Vec::len), Some(1), "{flag} 3:3:1: {v}");
+        assert!(json(&["alpha", flag, "3"]).is_object(), "{flag} 3");
+    }
+}
+
+#[test]
 fn spacelike_grid_has_the_contract_keys() {
     let v = json(&["alpha", "--q2", "-100:-1:3"]);
     let rows = v.as_array().expect("a grid is an array");

@@ -7,6 +7,8 @@ use thiserror::Error;
 #[derive(Debug, Clone, PartialEq)]
 pub struct Grid {
     points: Vec<f64>,
+    /// Given as a plain value (`3.0`), not as a grid (`3:3:1` is a grid of one point).
+    single: bool,
 }
 
 #[derive(Debug, Error, Clone, PartialEq)]
@@ -44,6 +46,7 @@ impl Grid {
         match parts.as_slice() {
             [one] => Ok(Grid {
                 points: vec![num(one)?],
+                single: true,
             }),
             [start, stop, count] => {
                 let (start, stop) = (num(start)?, num(stop)?);
@@ -80,7 +83,10 @@ impl Grid {
                 })
                 .collect()
         };
-        Grid { points }
+        Grid {
+            points,
+            single: false,
+        }
     }
 
     /// The points, in the order given.
@@ -88,9 +94,10 @@ impl Grid {
         &self.points
     }
 
-    /// True for a grid of one point (a single value).
+    /// True for a plain value (`3.0`); false for any grid, even of one point (`3:3:1`).
+    /// The output contract gives a value one object and a grid an array, whatever its size.
     pub fn is_single(&self) -> bool {
-        self.points.len() == 1
+        self.single
     }
 }
 
@@ -126,5 +133,16 @@ mod tests {
             Err(GridError::NotFinite { .. })
         ));
         assert!(Grid::parse("3:3:1").is_ok());
+    }
+
+    #[test]
+    fn only_a_plain_value_is_single() {
+        assert!(Grid::parse("3").unwrap().is_single());
+        assert!(Grid::parse(" -2.5 ").unwrap().is_single());
+        let one = Grid::parse("3:3:1").unwrap();
+        assert_eq!(one.points(), &[3.0]);
+        assert!(!one.is_single(), "a grid of one point is still a grid");
+        assert!(!Grid::parse("2:12:6").unwrap().is_single());
+        assert!(!Grid::linspace(3.0, 3.0, 1).is_single());
     }
 }
