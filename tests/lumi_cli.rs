@@ -395,3 +395,31 @@ fn a_grid_of_one_point_is_an_array() {
     assert_eq!(one("10:10:1").as_array().expect("an array").len(), 1);
     assert!(one("10").is_object());
 }
+
+#[test]
+fn zero_shifts_are_written_as_zero_not_negative_zero() {
+    // No alignment or energy uncertainty: δL = −L·δσ/σ with δσ = 0 is −0.0 in f64; the
+    // output writes 0 (a sign there would read as a direction).
+    let dir = tempfile::tempdir().unwrap();
+    let (card, data) = (dir.path().join("lumi.toml"), dir.path().join("counts.csv"));
+    let no_unc = CARD
+        .lines()
+        .take_while(|l| !l.starts_with("[uncertainty]"))
+        .collect::<Vec<_>>()
+        .join("\n");
+    fs::write(&card, no_unc).unwrap();
+    fs::write(&data, COUNTS).unwrap();
+    for format in ["json", "csv"] {
+        let (code, err, out) = lumi(&[
+            "--card",
+            card.to_str().unwrap(),
+            "--data",
+            data.to_str().unwrap(),
+            "--format",
+            format,
+        ]);
+        assert_eq!(code, Some(0), "{err}");
+        assert!(out.contains("acceptance_width_nb_inv"), "{out}");
+        assert!(!out.contains("-0.0"), "{format}: {out}");
+    }
+}

@@ -86,9 +86,10 @@ impl Row {
     }
 }
 
-/// A number as JSON; a non-finite one becomes `null` here and is refused in [`render`].
+/// A number as JSON (the library's writer rule: negative zero as 0); a non-finite one
+/// becomes `null` here and is refused in [`render`].
 fn num_value(v: f64) -> Value {
-    serde_json::Number::from_f64(v).map_or(Value::Null, Value::Number)
+    radnorm::io::tables::number(v)
 }
 
 /// What a command produced: its points, an optional summary, and how it was made.
@@ -385,6 +386,15 @@ mod tests {
         let pb = render(r, Format::Json, Units::Pb, true).unwrap();
         let v: Value = serde_json::from_str(&pb).unwrap();
         assert_eq!(v["sigma_pb"].as_f64().unwrap(), 9650.0);
+    }
+
+    #[test]
+    fn negative_zero_is_rendered_as_zero() {
+        let r = Report::new(vec![Row::new().num("shift_nb", -0.0)]);
+        for format in [Format::Json, Format::Csv, Format::Text] {
+            let s = render(r.clone(), format, Units::Pb, true).unwrap();
+            assert!(!s.contains("-0"), "{format:?}: {s}");
+        }
     }
 
     #[test]

@@ -22,8 +22,12 @@ pub enum TableError {
     },
 }
 
-/// A number as JSON, or `null` (refused by the writers) when not finite.
+/// A number as JSON, or `null` (refused by the writers) when not finite. Negative zero
+/// (a zero shift times a negative factor) is written as 0: `-0.0` in a table reads as a
+/// sign where there is none. Every number of radnorm's outputs (CLI included) goes
+/// through here.
 pub fn number(v: f64) -> Value {
+    let v = if v == 0.0 { 0.0 } else { v };
     serde_json::Number::from_f64(v).map_or(Value::Null, Value::Number)
 }
 
@@ -157,5 +161,17 @@ mod tests {
         );
         let prov = Provenance::new("c.toml", "[a]\n", vec![]);
         assert!(json_text(&prov, &[row], None).is_err());
+    }
+
+    #[test]
+    fn negative_zero_is_written_as_zero() {
+        let mut row = Map::new();
+        row.insert("shift_nb".into(), number(-0.0));
+        row.insert("small_nb".into(), number(-1e-300));
+        assert_eq!(
+            csv_body(std::slice::from_ref(&row)).unwrap(),
+            "shift_nb,small_nb\n0.0,-1e-300\n"
+        );
+        assert_eq!(serde_json::to_string(&number(-0.0)).unwrap(), "0.0");
     }
 }
