@@ -25,6 +25,7 @@
 //! - [`lumi`]: acceptances, visible Bhabha/γγ/μμ cross-sections with ISR/FSR, counts → luminosity.
 //! - [`scan`]: measured scans, the iterative unfolding to dressed and bare cross-sections.
 //! - [`table`]: correction tables on a grid with per-variation shifts, shardable.
+//! - [`demo`]: the invented demo scenario and its seeded generator.
 //! - [`budget`]: uncertainty sources as signed shifts per point, covariance across points.
 //! - [`plot`]: SVG plots of line shapes, correction factors and budgets.
 //!
@@ -42,6 +43,7 @@
 
 pub mod budget;
 pub mod constants;
+pub mod demo;
 pub mod error;
 pub mod io;
 pub mod isr;

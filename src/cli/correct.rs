@@ -373,11 +373,13 @@ pub fn run(args: CorrectArgs) -> Result<()> {
         100.0 * worst(&result.born, Kind::Statistical),
         100.0 * worst(&result.born, Kind::Systematic),
     );
-    for g in result.born.groups() {
+    let groups = result.born.groups();
+    let width = groups.iter().map(|g| g.chars().count()).max().unwrap_or(0);
+    for g in groups {
         let m = (0..result.points.len())
             .map(|i| result.born.group_at(i, g) / result.points[i].sigma_born_nb)
             .fold(0.0, f64::max);
-        println!("  {g:<24} up to {:.3}%", 100.0 * m);
+        println!("  {g:<width$}  up to {:.3}%", 100.0 * m);
     }
     println!("wrote {}", args.out.display());
     Ok(())

@@ -5,6 +5,7 @@
 mod alpha;
 mod born;
 mod correct;
+mod demo;
 mod isr;
 mod lumi;
 pub mod output;
@@ -38,6 +39,8 @@ enum Command {
     Correct(correct::CorrectArgs),
     /// Correction tables (1 + δ, vp factor, σ's, per-variation shifts) on a grid from a card.
     Table(table::TableArgs),
+    /// The whole pipeline on the shipped, invented demo scenario, into a folder.
+    Demo(demo::DemoArgs),
 }
 
 /// Parse the arguments and run the command.
@@ -49,6 +52,7 @@ pub fn run(cli: Cli) -> Result<()> {
         Command::Lumi(args) => lumi::run(args),
         Command::Correct(args) => correct::run(args),
         Command::Table(args) => table::run(args),
+        Command::Demo(args) => demo::run(args),
     }
 }
 

@@ -146,25 +146,37 @@ pub fn generate_scan(
         .collect()
 }
 
-/// The scan as CSV text in the format [`super::parse_scan`] reads.
+/// The scan as CSV text in the format [`super::parse_scan`] reads: the luminosity
+/// columns follow the first point's [`LuminosityInput`] (all points must share its kind).
 pub fn scan_to_csv(points: &[ScanPoint], comment: &str) -> String {
     let mut s = String::new();
     for line in comment.lines() {
         s.push_str(&format!("# {line}\n"));
     }
-    s.push_str("sqrt_s_gev,n_events,n_bkg,efficiency,luminosity_nb_inv,energy_spread_mev\n");
+    let bhabha = matches!(
+        points.first().map(|p| p.luminosity),
+        Some(LuminosityInput::Bhabha { .. })
+    );
+    s.push_str(if bhabha {
+        "sqrt_s_gev,n_events,n_bkg,efficiency,n_bhabha,n_bhabha_bkg,bhabha_efficiency,energy_spread_mev\n"
+    } else {
+        "sqrt_s_gev,n_events,n_bkg,efficiency,luminosity_nb_inv,energy_spread_mev\n"
+    });
     for p in points {
-        let l = match p.luminosity {
-            LuminosityInput::Given { luminosity_nb_inv } => luminosity_nb_inv,
-            LuminosityInput::Bhabha { .. } => f64::NAN,
+        let lumi = match p.luminosity {
+            LuminosityInput::Given { luminosity_nb_inv } => format!("{luminosity_nb_inv}"),
+            LuminosityInput::Bhabha {
+                n_events,
+                n_bkg,
+                efficiency,
+            } => format!("{n_events},{n_bkg},{efficiency}"),
         };
         s.push_str(&format!(
-            "{},{},{},{},{},{}\n",
+            "{},{},{},{},{lumi},{}\n",
             p.sqrt_s_gev,
             p.n_events,
             p.n_bkg,
             p.efficiency,
-            l,
             p.energy_spread_mev.unwrap_or(0.0)
         ));
     }
