@@ -16,6 +16,6 @@ pub use luminosity::{
     COUNTS_COLUMNS, CountsError, Prediction, RC_NONLOG_REL, Run, RunLuminosity, SigmaShift,
     luminosities, parse_counts, predict,
 };
-pub use monitor::{Monitor, VP_REGIONS, VpModels};
+pub use monitor::{Monitor, VpModels};
 pub use structure_function::StructureFunction;
 pub use visible::{Channel, Scale, Settings, SigmaVis, Visible, VisibleError};

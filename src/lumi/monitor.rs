@@ -12,15 +12,6 @@ use crate::vp::{Polarisation, Vp, VpChoice};
 use rayon::prelude::*;
 use std::sync::Arc;
 
-/// The R-model regions varied by +1σ in a full-VP budget, in report order.
-pub const VP_REGIONS: [Region; 5] = [
-    Region::PiPi,
-    Region::OmegaPhi,
-    Region::Inclusive,
-    Region::Pqcd,
-    Region::Narrow,
-];
-
 /// The VP models of a monitor: the nominal Π (None: no VP) and the varied ones, each named
 /// by its R-model region key (`pipi`, …), which [`predict`] turns into the source `vp_<key>`.
 #[derive(Clone)]
@@ -31,7 +22,7 @@ pub struct VpModels {
 
 impl VpModels {
     /// The standard models of a VP choice: for `full`, the default R model with each region
-    /// of [`VP_REGIONS`] moved by +1σ (each a new table, ≈ 25 ms; built in parallel).
+    /// of [`Region::MODEL`] moved by +1σ (each a new table, ≈ 25 ms; built in parallel).
     pub fn standard(choice: VpChoice) -> Self {
         let nominal: Option<Arc<dyn Polarisation>> = match choice {
             VpChoice::None => None,
@@ -39,7 +30,7 @@ impl VpModels {
             VpChoice::Full => Some(Arc::new(Vp::full())),
         };
         let variations = if choice == VpChoice::Full {
-            VP_REGIONS
+            Region::MODEL
                 .par_iter()
                 .map(|&r| {
                     let vp: Arc<dyn Polarisation> = Arc::new(Vp::full_varied(r, 1.0));

@@ -65,6 +65,16 @@ impl Region {
         Region::TableStat,
     ];
 
+    /// The regions of the built-in model (no user table), in budget order: the ones an
+    /// uncertainty budget varies one at a time.
+    pub const MODEL: [Region; 5] = [
+        Region::PiPi,
+        Region::OmegaPhi,
+        Region::Inclusive,
+        Region::Pqcd,
+        Region::Narrow,
+    ];
+
     /// The snake_case key used in outputs.
     pub fn key(self) -> &'static str {
         match self {

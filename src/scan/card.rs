@@ -563,19 +563,13 @@ pub fn vp_variations(choice: VpChoice) -> Vec<(String, Arc<dyn Polarisation>)> {
     if choice != VpChoice::Full {
         return Vec::new();
     }
-    [
-        Region::PiPi,
-        Region::OmegaPhi,
-        Region::Inclusive,
-        Region::Pqcd,
-        Region::Narrow,
-    ]
-    .par_iter()
-    .map(|&r| {
-        let vp: Arc<dyn Polarisation> = Arc::new(Vp::full_varied(r, 1.0));
-        (format!("vp:{}", r.key()), vp)
-    })
-    .collect()
+    Region::MODEL
+        .par_iter()
+        .map(|&r| {
+            let vp: Arc<dyn Polarisation> = Arc::new(Vp::full_varied(r, 1.0));
+            (format!("vp:{}", r.key()), vp)
+        })
+        .collect()
 }
 
 /// The Born process named `name` (R only for hadrons).

@@ -109,15 +109,6 @@ pub struct RawVariation {
     pub energy_spread_mev: Option<f64>,
 }
 
-/// Regions of the default R model a VP variation can move.
-const VP_REGIONS: [Region; 5] = [
-    Region::PiPi,
-    Region::OmegaPhi,
-    Region::Inclusive,
-    Region::Pqcd,
-    Region::Narrow,
-];
-
 /// The most rows one card may ask for (a job array takes more through shards of cards).
 const MAX_ROWS: usize = 10_000_000;
 
@@ -367,13 +358,13 @@ fn variations(
         ));
     }
     let regions: Vec<Region> = if region == "all" {
-        VP_REGIONS.to_vec()
+        Region::MODEL.to_vec()
     } else {
-        let r = VP_REGIONS
+        let r = Region::MODEL
             .iter()
             .find(|r| r.key() == region)
             .ok_or_else(|| {
-                let keys: Vec<&str> = VP_REGIONS.iter().map(|r| r.key()).collect();
+                let keys: Vec<&str> = Region::MODEL.iter().map(|r| r.key()).collect();
                 err(
                     &key("vp_region"),
                     format!(
