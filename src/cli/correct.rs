@@ -350,7 +350,7 @@ pub fn run(args: CorrectArgs) -> Result<()> {
             .map(|i| b.kind_at(i, kind) / result.points[i].sigma_born_nb)
             .fold(0.0, f64::max)
     };
-    println!(
+    say!(
         "corrected {} points ({:.3}–{:.3} GeV) in {} iterations with {}",
         result.points.len(),
         result.points[0].sqrt_s_gev,
@@ -358,7 +358,7 @@ pub fn run(args: CorrectArgs) -> Result<()> {
         result.iterations,
         plan.chain.radiator_key()
     );
-    println!(
+    say!(
         "1+delta from {:.4} to {:.4}; largest relative uncertainty of sigma_born: stat {:.3}%, syst {:.3}%",
         result
             .points
@@ -379,9 +379,9 @@ pub fn run(args: CorrectArgs) -> Result<()> {
         let m = (0..result.points.len())
             .map(|i| result.born.group_at(i, g) / result.points[i].sigma_born_nb)
             .fold(0.0, f64::max);
-        println!("  {g:<width$}  up to {:.3}%", 100.0 * m);
+        say!("  {g:<width$}  up to {:.3}%", 100.0 * m);
     }
-    println!("wrote {}", args.out.display());
+    say!("wrote {}", args.out.display());
     Ok(())
 }
 
@@ -525,7 +525,7 @@ fn run_fit(
     out.commit(&[args.card.as_path(), args.data.as_path()])?;
 
     let n = r.points.len();
-    println!(
+    say!(
         "forward fit of {} to {} points ({:.4}–{:.4} GeV) with {}: {} after {} iterations",
         r.plan.resonance,
         n,
@@ -541,20 +541,20 @@ fn run_fit(
             r.uncertainty(p).unwrap_or(f64::NAN),
         );
         match p {
-            Parameter::Mass => println!("  {:<24} {v:.6} ± {u:.6}", p.key()),
-            _ => println!("  {:<24} {v:.5} ± {u:.5}", p.key()),
+            Parameter::Mass => say!("  {:<24} {v:.6} ± {u:.6}", p.key()),
+            _ => say!("  {:<24} {v:.5} ± {u:.5}", p.key()),
         }
     }
-    println!(
+    say!(
         "  width_gev                {} (held fixed)",
         r.plan.width_gev
     );
-    println!(
+    say!(
         "  chi2/ndf                 {:.2}/{} = {:.3}",
         r.chi2,
         r.ndf,
         r.chi2 / r.ndf as f64
     );
-    println!("wrote {}", args.out.display());
+    say!("wrote {}", args.out.display());
     Ok(())
 }

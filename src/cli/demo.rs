@@ -108,7 +108,7 @@ pub fn run(args: DemoArgs) -> Result<()> {
         write_atomic(&dir.join("scan.csv"), scan.as_bytes(), &[])?;
         write_atomic(&dir.join("bhabha_counts.csv"), counts.as_bytes(), &[])?;
         std::fs::remove_dir_all(&inputs).ok();
-        println!(
+        say!(
             "wrote {0}/scan.csv and {0}/bhabha_counts.csv",
             dir.display()
         );
@@ -133,8 +133,8 @@ pub fn run(args: DemoArgs) -> Result<()> {
         write_atomic(&inputs.join(name), text.as_bytes(), &[])?;
     }
     let (scenario, plan) = load(&inputs)?;
-    println!("radnorm demo — {} (INVENTED scenario)", scenario.name);
-    println!(
+    say!("radnorm demo — {} (INVENTED scenario)", scenario.name);
+    say!(
         "{} points {:.3}–{:.3} GeV, {} nb⁻¹ each; inputs in {}",
         scenario.points.len(),
         scenario.points[0].sqrt_s_gev,
@@ -145,7 +145,7 @@ pub fn run(args: DemoArgs) -> Result<()> {
 
     let p = |name: &str| -> Result<String> { Ok(path_str(&out.join(name))?.to_string()) };
     let i = |name: &str| -> Result<String> { Ok(path_str(&inputs.join(name))?.to_string()) };
-    println!("\n1. luminosity from the Bhabha counts (radnorm lumi)");
+    say!("\n1. luminosity from the Bhabha counts (radnorm lumi)");
     radnorm(&[
         "lumi",
         "--card",
@@ -159,7 +159,7 @@ pub fn run(args: DemoArgs) -> Result<()> {
     ])?;
     print_luminosity(&out.join("luminosity.json"))?;
 
-    println!("\n2. observed → dressed → bare cross-sections (radnorm correct)");
+    say!("\n2. observed → dressed → bare cross-sections (radnorm correct)");
     radnorm(&[
         "correct",
         "--card",
@@ -170,7 +170,7 @@ pub fn run(args: DemoArgs) -> Result<()> {
         &p("corrected")?,
     ])?;
 
-    println!("\n3. correction tables (radnorm table)");
+    say!("\n3. correction tables (radnorm table)");
     radnorm(&[
         "table",
         "--card",
@@ -189,19 +189,19 @@ pub fn run(args: DemoArgs) -> Result<()> {
         "--out",
         &p("corrections_hepdata")?,
     ])?;
-    println!(
-        "  corrections.csv and corrections_hepdata/: 1+δ, vp factor and shifts on 41 energies"
-    );
+    say!("  corrections.csv and corrections_hepdata/: 1+δ, vp factor and shifts on 41 energies");
 
-    println!("\n4. closure against the invented truth");
+    say!("\n4. closure against the invented truth");
     let truth = Truth::new(&scenario, plan.vp.clone());
     let c = closure(&out.join("corrected"), &truth)?;
-    println!(
+    say!(
         "  dressed cross-sections vs truth: χ² = {:.1} for {} points (full covariance), largest |pull| {:.2}",
-        c.chi2, c.points, c.max_pull
+        c.chi2,
+        c.points,
+        c.max_pull
     );
 
-    println!(
+    say!(
         "\nwrote {} in {:.1} s: inputs/, luminosity.json, corrected/ (corrected.csv/json, \
          budget.json, hepdata/, plots/), corrections.csv, corrections_hepdata/",
         out.display(),
@@ -222,7 +222,7 @@ fn print_luminosity(path: &Path) -> Result<()> {
     let s = &doc["summary"];
     let num = |v: &serde_json::Value, k: &str| v[k].as_f64().unwrap_or(f64::NAN);
     if let Some(total) = s.get("luminosity_nb_inv") {
-        println!(
+        say!(
             "  total {:.1} nb⁻¹ ± {:.1} (stat) ± {:.1} (syst)",
             total.as_f64().unwrap_or(f64::NAN),
             num(s, "luminosity_stat_nb_inv"),

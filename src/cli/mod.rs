@@ -2,6 +2,15 @@
 //!
 //! Only this layer uses clap and anyhow; it does no physics, only calls the library.
 
+/// `println!` that ignores a closed standard output (`radnorm demo | head`), instead of
+/// panicking as `println!` does.
+macro_rules! say {
+    ($($arg:tt)*) => {{
+        use std::io::Write as _;
+        let _ = writeln!(std::io::stdout(), $($arg)*);
+    }};
+}
+
 mod alpha;
 mod born;
 mod correct;

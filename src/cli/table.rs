@@ -290,7 +290,10 @@ fn write_table(
     };
     match out {
         Some(path) => write_atomic(path, text.as_bytes(), inputs)?,
-        None => print!("{text}"),
+        None => {
+            use std::io::Write as _;
+            let _ = std::io::stdout().write_all(text.as_bytes());
+        }
     }
     Ok(())
 }
