@@ -5,8 +5,8 @@
 //! (value, error estimate, evaluations, status). Hot loops use the fixed
 //! [`GaussLegendre`] rules once a test has shown their accuracy for the integrand.
 
-mod gauss_kronrod;
 mod gauss_hermite;
+mod gauss_kronrod;
 mod gauss_legendre;
 mod grid;
 mod guarded;
@@ -15,8 +15,8 @@ mod principal_value;
 mod singular;
 mod spline;
 
-pub use gauss_kronrod::{integrate, integrate_to_infinity};
 pub use gauss_hermite::GaussHermite;
+pub use gauss_kronrod::{integrate, integrate_to_infinity};
 pub use gauss_legendre::GaussLegendre;
 pub use grid::{Grid, GridError};
 pub use guarded::integrate_double_exponential;
