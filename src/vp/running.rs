@@ -35,11 +35,17 @@ impl VpChoice {
 }
 
 /// The tabulated hadronic Π of the default R model, built once per process and shared.
+///
+/// The table is built outside the lock: building uses rayon, and a rayon worker blocked
+/// on a lock whose holder waits for rayon work deadlocks (seen with the region variations
+/// built in parallel). Two threads may race to build it; the first result is kept.
 pub fn standard_hadronic() -> Arc<HadronicVp> {
     static STANDARD: OnceLock<Arc<HadronicVp>> = OnceLock::new();
-    STANDARD
-        .get_or_init(|| Arc::new(HadronicVp::new(RModel::standard())))
-        .clone()
+    if let Some(table) = STANDARD.get() {
+        return table.clone();
+    }
+    let built = Arc::new(HadronicVp::new(RModel::standard()));
+    STANDARD.get_or_init(|| built).clone()
 }
 
 /// A vacuum-polarisation model: none, leptonic, or leptonic + hadronic.
