@@ -1,9 +1,10 @@
 //! ISR convolution speed. Targets (issue 4): one point (μμ, KF O(β²), x_max = 0.5,
-//! 1e-8) ≤ 1 µs without VP, ≤ 3 µs with full VP through its tabulation.
+//! 1e-8) ≤ 1 µs without VP, ≤ 3 µs with full VP through its tabulation, also where a
+//! narrow resonance of the hadronic VP lies inside the integration range.
 
 use criterion::{Criterion, criterion_group, criterion_main};
 use radnorm::isr::{Cuts, Isr, Scheme};
-use radnorm::process::FermionPair;
+use radnorm::process::{CrossSection, FermionPair};
 use radnorm::vp::{Dressed, Vp};
 use std::hint::black_box;
 
@@ -29,6 +30,29 @@ fn isr_vp(c: &mut Criterion) {
             |b| b.iter(|| half.observe(&dressed, black_box(100.0)).unwrap().sigma_nb),
         );
     }
+    // Narrow resonances of the hadronic VP inside s′ ∈ [s/2, s]: the dressed line shape
+    // peaks at the pole of 1/(1 − Π) (J/ψ: 24 widths above M²), which the fixed path must
+    // split at and map (10 and 4 panels here).
+    let dressed = Dressed::new(FermionPair::muon(), Vp::full());
+    for (sqrt_s, inside) in [(10.58, "Upsilon(1S-3S)"), (3.2, "J/psi")] {
+        c.bench_function(
+            &format!(
+                "isr mumu kf2 x_max=0.5 sqrt_s={sqrt_s}, full VP, {inside} in range (target <= 3 us)"
+            ),
+            |b| {
+                b.iter(|| {
+                    half.observe(&dressed, black_box(sqrt_s * sqrt_s))
+                        .unwrap()
+                        .sigma_nb
+                })
+            },
+        );
+    }
+    // The floor under every VP point: one evaluation of the dressed σ_d (a fixed panel
+    // takes 32 + 24 of them).
+    c.bench_function("dressed mumu sigma_d, full VP, one evaluation", |b| {
+        b.iter(|| dressed.sigma_nb(black_box(100.0)))
+    });
 }
 
 criterion_group!(benches, isr, isr_vp);

@@ -27,7 +27,9 @@ pub trait Polarisation: Sync + Send {
     /// Π(q² + i0): real for q² ≤ 0 (spacelike), complex above timelike thresholds.
     fn pi(&self, q2_gev2: f64) -> Complex64;
 
-    /// Cusps (thresholds) and narrow peaks of Π in s that integrals over s must split at.
+    /// Cusps (thresholds) and narrow peaks in s that integrals over s must split at. For a
+    /// model whose users dress with 1/(1 − Π), the peaks of that factor: [`Vp`] marks a
+    /// narrow resonance at the pole of 1/(1 − Π), not at M² ([`Vp::dressed_poles`]).
     fn features(&self) -> &[Feature] {
         &[]
     }

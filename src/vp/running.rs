@@ -83,14 +83,76 @@ impl Vp {
     }
 
     /// Leptons and a given hadronic Π (a user R table, a varied model).
+    ///
+    /// Its features are what a VP-dressed cross-section sees: the leptonic thresholds, the R
+    /// model's edges and peaks, except that a Breit–Wigner whose dressed pole has moved off
+    /// its mass ([`Vp::dressed_poles`]) is marked at that pole instead of at M². There
+    /// 1/(1 − Π) has a zero, not a peak: Π's pole at M² − iMΓ cancels in every dressed
+    /// quantity (in σ_pt·R·|1 − Π|⁻² too, where R's own pole meets the same zero), so a
+    /// break at M² would only cost integrators panels. (The hadronic part alone,
+    /// [`HadronicVp::features`], still marks M²: that is where Π itself peaks.)
     pub fn with_hadronic(hadronic: Arc<HadronicVp>) -> Self {
-        let mut features = lepton_edges();
-        features.extend_from_slice(hadronic.features());
-        Vp {
+        let mut vp = Vp {
             choice: VpChoice::Full,
             hadronic: Some(hadronic),
-            features,
+            features: lepton_edges(),
+        };
+        let poles = vp.dressed_poles();
+        let moved = |f: &Feature| match *f {
+            Feature::Peak { s_gev2, .. } => poles.iter().any(|(m2, _)| *m2 == s_gev2),
+            Feature::Edge { .. } => false,
+        };
+        let hadronic_features = vp.hadronic.as_ref().map_or(Vec::new(), |h| {
+            h.features().iter().filter(|f| !moved(f)).copied().collect()
+        });
+        vp.features.extend(hadronic_features);
+        vp.features.extend(poles.into_iter().map(|(_, pole)| pole));
+        vp
+    }
+
+    /// Peaks of |1/(1 − Π(s))|² that lie away from the masses of the model's Breit–Wigners:
+    /// (M² of the resonance, the peak as a [`Feature::Peak`] with s at the pole's real part
+    /// and MΓ its |imaginary part|).
+    ///
+    /// A resonance inside Π, Π_V ≈ B/(s − M² + iMΓ) with B ≈ 3sΓ_ee⁰/(αM) (physics.md §2),
+    /// turns 1/(1 − Π) into (s − M² + iMΓ)/g(s) with g(s) = (1 − Π(s))(s − M² + iMΓ)
+    /// smooth on the scale of M² (the rest of Π varies there): M² becomes a zero and the
+    /// peak of every VP-dressed line shape sits at the zero s_p of g, where
+    /// s_p ≈ (M² − iMΓ)/(1 − B/(M²(1 − Π_rest))). For the J/ψ that is ≈ 24 MΓ (≈ 1.1 MeV in
+    /// √s) above M² and ≈ 1.25 MΓ wide; an integral over a dressed cross-section must split
+    /// there, not only at M². g is found on the real axis and continued linearly (two secant
+    /// steps; g is linear there to ~10⁻⁶ of a width). A pole within half a width of M²
+    /// (ω, φ) adds nothing the peak at M² does not already mark, and is left out.
+    /// The pole is found from Π itself, so it follows whatever parameters the model's
+    /// Breit–Wigners carry (the shift comes from putting the PDG M and Γ into Π's
+    /// resummed propagator; were they bare parameters tuned so that the dressed pole sits at
+    /// the PDG mass, this would find it there).
+    pub fn dressed_poles(&self) -> Vec<(f64, Feature)> {
+        let Some(h) = &self.hadronic else {
+            return Vec::new();
+        };
+        let mut out = Vec::new();
+        for r in h.model().resonances() {
+            let (m2, mg) = (r.mass_gev * r.mass_gev, r.mass_gev * r.width_gev);
+            let g = |s: f64| (1.0 - self.pi(s)) * Complex64::new(s - m2, mg);
+            let secant = |s1: f64, s2: f64| {
+                let (g1, g2) = (g(s1), g(s2));
+                s1 - g1 * (s2 - s1) / (g2 - g1)
+            };
+            let first = secant(m2, m2 + 16.0 * mg);
+            let pole = secant(first.re, first.re + 4.0 * mg);
+            let shift = pole.re - m2;
+            if pole.re > 0.0 && pole.is_finite() && shift.abs() > 0.5 * pole.im.abs() {
+                out.push((
+                    m2,
+                    Feature::Peak {
+                        s_gev2: pole.re,
+                        m_gamma_gev2: pole.im.abs(),
+                    },
+                ));
+            }
         }
+        out
     }
 
     /// The choice by name.
