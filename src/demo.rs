@@ -36,7 +36,7 @@
 
 use crate::lumi::Monitor;
 use crate::process::{ConstantR, CrossSection, Feature, Hadrons};
-use crate::scan::generate::{PlannedPoint, SplitMix64, generate_scan};
+use crate::scan::generate::{PlannedPoint, SplitMix64, generate_scan, round_significant};
 use crate::scan::{ForwardChain, LuminosityInput, ScanPoint};
 use crate::vp::Polarisation;
 use serde::Deserialize;
@@ -312,8 +312,12 @@ pub fn generate(
     let mut points = generate_scan(chain, truth, &scenario.points, scenario.seed);
     let mut rng = SplitMix64::new(scenario.seed ^ 0x6c75_6d69);
     for (p, s) in points.iter_mut().zip(sigma_vis) {
-        let mean = scenario.bhabha_efficiency * scenario.points[0].luminosity_nb_inv * s
-            + scenario.n_bhabha_bkg;
+        // σ_vis is computed to 1e-4: four significant digits keep the draws stable.
+        let mean = round_significant(
+            scenario.bhabha_efficiency * scenario.points[0].luminosity_nb_inv * s
+                + scenario.n_bhabha_bkg,
+            4,
+        );
         let mut n = rng.poisson(mean) as f64;
         while n <= scenario.n_bhabha_bkg {
             n = rng.poisson(mean) as f64;

@@ -100,6 +100,17 @@ pub struct PlannedPoint {
     pub energy_spread_mev: f64,
 }
 
+/// `x` rounded to `digits` significant digits. Poisson means are rounded so that a change
+/// of the chain far below any statistical meaning (a different integration rule at the 1e-9
+/// level) leaves the seeded draws, and so shipped invented data, unchanged.
+pub fn round_significant(x: f64, digits: i32) -> f64 {
+    if x == 0.0 || !x.is_finite() {
+        return x;
+    }
+    let scale = 10f64.powi(digits - 1 - x.abs().log10().floor() as i32);
+    (x * scale).round() / scale
+}
+
 /// The expected observed cross-sections of `dressed` at the planned points, nb.
 pub fn expected_sigma_obs_nb(
     chain: &ForwardChain,
@@ -127,7 +138,7 @@ pub fn generate_scan(
         .iter()
         .zip(sigma)
         .map(|(p, s)| {
-            let mean = p.efficiency * p.luminosity_nb_inv * s + p.n_bkg;
+            let mean = round_significant(p.efficiency * p.luminosity_nb_inv * s + p.n_bkg, 6);
             let mut n = rng.poisson(mean) as f64;
             while n <= p.n_bkg {
                 n = rng.poisson(mean) as f64;
@@ -203,6 +214,15 @@ mod tests {
             );
             assert!((v / mu - 1.0).abs() < 0.05, "μ={mu}: variance {v}");
         }
+    }
+
+    #[test]
+    fn rounds_to_significant_digits() {
+        // Decimal rounding by hand.
+        assert_eq!(round_significant(123_456.789, 4), 123_500.0);
+        assert_eq!(round_significant(0.001_234_56, 3), 0.001_23);
+        assert_eq!(round_significant(-98.76, 2), -99.0);
+        assert_eq!(round_significant(0.0, 4), 0.0);
     }
 
     #[test]
