@@ -191,6 +191,47 @@ impl Acceptance {
     /// The accepted intervals of c = cosθ* when the beams keep the fractions (z₁, z₂)
     /// (both in (0, 1]); see the module notes for the kinematics.
     pub fn intervals(&self, z1: f64, z2: f64) -> Intervals {
+        self.resolve(z1, z2).0
+    }
+
+    /// Which bound is active at each end of the accepted intervals at (z₁, z₂), as a code:
+    /// where it changes, the integrand of a visible cross-section over (z₁, z₂) has a kink
+    /// (or, where the acollinearity cut opens, a square-root edge). Equal codes on both
+    /// sides of a small step mean the same closed-form branches apply on both.
+    pub(crate) fn structure(&self, z1: f64, z2: f64) -> u32 {
+        self.resolve(z1, z2).1
+    }
+
+    /// The widest accepted interval's length in c at (z₁, z₂), and where nothing is accepted
+    /// minus how far its bounds are from meeting: a continuous margin whose zero is where
+    /// the acceptance appears (to find the lowest accepted z₁z₂ exactly).
+    pub(crate) fn width(&self, z1: f64, z2: f64) -> f64 {
+        let b = (z1 - z2) / (z1 + z2);
+        let (a1, b1) = self.cos1;
+        let (a2, b2) = self.cos2;
+        let mut lo = ((a1 - b) / (1.0 - b * a1)).max((b - b2) / (1.0 - b * b2));
+        let mut hi = ((b1 - b) / (1.0 - b * b1)).min((b - a2) / (1.0 - b * a2));
+        let room = (z1 + z2) - 2.0 * self.e_min_frac;
+        let d = (z1 - z2).abs();
+        if d > 0.0 {
+            lo = lo.max(-room / d);
+            hi = hi.min(room / d);
+        } else if room < 0.0 {
+            return room;
+        }
+        let ratio = self.tan_half_acol * 2.0 * (z1 * z2).sqrt() / d;
+        if ratio >= 1.0 {
+            return hi - lo;
+        }
+        let cx = (1.0 - ratio * ratio).sqrt();
+        (hi.min(-cx) - lo).max(hi - lo.max(cx))
+    }
+
+    /// The intervals and their structure code ([`Self::structure`]): bits 0–1 the lower
+    /// bound (first window, second window, energy), bits 2–3 the upper one, bit 4 the
+    /// acollinearity cut active, bits 5–8 which of its two parts exist and whether −c_ξ
+    /// and c_ξ bound them; [`EMPTY`] alone when nothing is accepted.
+    fn resolve(&self, z1: f64, z2: f64) -> (Intervals, u32) {
         let empty = Intervals {
             parts: [(0.0, 0.0); 2],
             count: 0,
@@ -198,42 +239,61 @@ impl Acceptance {
         let b = (z1 - z2) / (z1 + z2);
         let (a1, b1) = self.cos1;
         let (a2, b2) = self.cos2;
-        let mut lo = ((a1 - b) / (1.0 - b * a1)).max((b - b2) / (1.0 - b * b2));
-        let mut hi = ((b1 - b) / (1.0 - b * b1)).min((b - a2) / (1.0 - b * a2));
+        let (l1, l2) = ((a1 - b) / (1.0 - b * a1), (b - b2) / (1.0 - b * b2));
+        let (h1, h2) = ((b1 - b) / (1.0 - b * b1), (b - a2) / (1.0 - b * a2));
+        let (mut lo, mut lo_code) = if l2 > l1 { (l2, 1) } else { (l1, 0) };
+        let (mut hi, mut hi_code) = if h2 < h1 { (h2, 1) } else { (h1, 0) };
         // Energies: |z₁ − z₂|·|c| ≤ (z₁ + z₂) − 2 e_min.
         let room = (z1 + z2) - 2.0 * self.e_min_frac;
         let d = (z1 - z2).abs();
         if room < 0.0 {
-            return empty;
+            return (empty, EMPTY);
         }
         if d > 0.0 {
             let cmax = room / d;
-            lo = lo.max(-cmax);
-            hi = hi.min(cmax);
+            if -cmax > lo {
+                (lo, lo_code) = (-cmax, 2);
+            }
+            if cmax < hi {
+                (hi, hi_code) = (cmax, 2);
+            }
         }
         if lo >= hi {
-            return empty;
+            return (empty, EMPTY);
         }
+        let code = lo_code | (hi_code << 2);
         // Acollinearity: sinθ* ≤ tan(ξ_max/2)/(βγ) removes |c| < c_ξ.
         let bg = d / (2.0 * (z1 * z2).sqrt());
         let ratio = self.tan_half_acol / bg;
         if ratio >= 1.0 {
-            return Intervals {
+            let one = Intervals {
                 parts: [(lo, hi), (0.0, 0.0)],
                 count: 1,
             };
+            return (one, code);
         }
         let cx = (1.0 - ratio * ratio).sqrt();
         let mut out = empty;
-        for (l, h) in [(lo, hi.min(-cx)), (lo.max(cx), hi)] {
+        let mut code = code | 1 << 4;
+        for (k, (l, h, bound)) in [(lo, hi.min(-cx), -cx < hi), (lo.max(cx), hi, cx > lo)]
+            .into_iter()
+            .enumerate()
+        {
             if l < h {
                 out.parts[out.count] = (l, h);
                 out.count += 1;
+                code |= (1 | u32::from(bound) << 1) << (5 + 2 * k);
             }
         }
-        out
+        if out.count == 0 {
+            return (empty, EMPTY);
+        }
+        (out, code)
     }
 }
+
+/// The structure code of an empty acceptance.
+pub(crate) const EMPTY: u32 = 1 << 10;
 
 #[cfg(test)]
 mod tests {
@@ -274,6 +334,8 @@ mod tests {
         for a in [a1, a2] {
             for (z1, z2) in [(1.0, 1.0), (0.9, 1.0), (1.0, 0.6), (0.55, 0.8), (0.3, 0.97)] {
                 let iv = a.intervals(z1, z2);
+                assert_eq!(iv.as_slice().is_empty(), a.structure(z1, z2) == EMPTY);
+                assert_eq!(iv.as_slice().is_empty(), a.width(z1, z2) <= 0.0);
                 for k in 0..2001 {
                     let c = -1.0 + 2.0 * (k as f64 + 0.5) / 2001.0;
                     let inside = iv.as_slice().iter().any(|&(l, h)| c >= l && c <= h);

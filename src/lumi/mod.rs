@@ -7,6 +7,7 @@ mod acceptance;
 mod card;
 mod luminosity;
 mod monitor;
+mod pieces;
 mod structure_function;
 mod visible;
 

@@ -52,6 +52,12 @@ impl StructureFunction {
         0.5 * b * (1.0 - z).powf(0.5 * b - 1.0) * (1.0 + 0.375 * b) - 0.25 * b * (1.0 + z)
     }
 
+    /// D at z = 1 − w, from the loss w directly: exact where 1 − w rounds to 1.
+    pub fn density_at_loss(&self, w: f64) -> f64 {
+        let b = self.beta;
+        0.5 * b * w.powf(0.5 * b - 1.0) * (1.0 + 0.375 * b) - 0.25 * b * (2.0 - w)
+    }
+
     /// ∫_{z₀}^1 D(z) dz: the probability that the lepton keeps at least the fraction z₀
     /// (1 for z₀ ≤ 0, 0 for z₀ ≥ 1). Closed form of the density above.
     pub fn keep_at_least(&self, z0: f64) -> f64 {
@@ -112,6 +118,19 @@ mod tests {
                 soft + hard
             );
         }
+    }
+
+    #[test]
+    fn density_from_the_loss_is_the_density() {
+        // The same formula with w = 1 − z (exact identity; w small is where it matters).
+        let d = StructureFunction::new(25.0, M_E_GEV).unwrap();
+        for z in [0.0, 0.3, 0.9, 0.999_999] {
+            assert!(
+                (d.density_at_loss(1.0 - z) / d.density(z) - 1.0).abs() < 1e-9,
+                "z={z}"
+            );
+        }
+        assert!(d.density_at_loss(1e-30).is_finite());
     }
 
     #[test]
