@@ -545,15 +545,12 @@ pub fn radiator_by_name(key: &str, name: &str) -> Result<Option<Scheme>, ScanErr
 /// # Errors
 /// An unknown name, naming `key` and the allowed names.
 pub fn vp_by_name(key: &str, name: &str) -> Result<VpChoice, ScanError> {
-    [VpChoice::None, VpChoice::Leptonic, VpChoice::Full]
-        .into_iter()
-        .find(|c| c.key() == name)
-        .ok_or_else(|| {
-            card_err(
-                key,
-                format!("unknown vp model '{name}'; allowed: none, leptonic, full"),
-            )
-        })
+    VpChoice::from_key(name).ok_or_else(|| {
+        card_err(
+            key,
+            format!("unknown vp model '{name}'; allowed: none, leptonic, full"),
+        )
+    })
 }
 
 /// The budget variations of a VP choice: for `full`, the default R model with each

@@ -432,15 +432,12 @@ impl TryFrom<RawTableCard> for TablePlan {
             raw.radiation.radiator.as_deref().unwrap_or("kf2"),
         )?;
         let vp_name = raw.vp.model.as_deref().unwrap_or("full");
-        let vp_choice = [VpChoice::None, VpChoice::Leptonic, VpChoice::Full]
-            .into_iter()
-            .find(|c| c.key() == vp_name)
-            .ok_or_else(|| {
-                err(
-                    "vp.model",
-                    format!("unknown model '{vp_name}'; allowed: none, leptonic, full"),
-                )
-            })?;
+        let vp_choice = VpChoice::from_key(vp_name).ok_or_else(|| {
+            err(
+                "vp.model",
+                format!("unknown model '{vp_name}'; allowed: none, leptonic, full"),
+            )
+        })?;
 
         let mut seen = Vec::new();
         let mut cuts = Vec::new();

@@ -24,6 +24,13 @@ pub enum VpChoice {
 }
 
 impl VpChoice {
+    /// The choice named by its [`Self::key`] (`none`, `leptonic`, `full`).
+    pub fn from_key(key: &str) -> Option<Self> {
+        [VpChoice::None, VpChoice::Leptonic, VpChoice::Full]
+            .into_iter()
+            .find(|c| c.key() == key)
+    }
+
     /// The key used on the command line and in outputs.
     pub fn key(self) -> &'static str {
         match self {
