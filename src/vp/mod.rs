@@ -10,8 +10,12 @@
 //! - [`Vp`]: the choice none / leptonic / full that later layers take
 //!   ([`standard_hadronic`] shares the default table across the process);
 //! - [`Dressed`]: the link σ·|1 − Π(s)|⁻² of the chain.
+//!
+//! [`Vp`] tabulates its s-channel factor 1/(1 − Π(s + i0)) at first use (`factor`, ≈ 1 ms,
+//! agreeing with the direct evaluation to 10⁻⁹ relative); [`Polarisation::pi`] stays exact.
 
 mod dressed;
+mod factor;
 pub mod hadronic;
 pub mod leptonic;
 mod running;
@@ -58,6 +62,12 @@ impl<T: Polarisation + ?Sized> Polarisation for &T {
     }
     fn describe(&self) -> String {
         (**self).describe()
+    }
+    fn s_channel_factor(&self, s_gev2: f64) -> Complex64 {
+        (**self).s_channel_factor(s_gev2)
+    }
+    fn t_channel_factor(&self, t_gev2: f64) -> f64 {
+        (**self).t_channel_factor(t_gev2)
     }
 }
 

@@ -1,9 +1,13 @@
 //! Running α and the VP choice the later layers (ISR, luminosity, scans) take.
 //!
 //! α(q²) = α/(1 − Π(q²)); the s-channel factor is the complex 1/(1 − Π(s + i0)), the
-//! t-channel one the real 1/(1 − Π(t)) (the [`Polarisation`] defaults).
+//! t-channel one the real 1/(1 − Π(t)). The s-channel factor is tabulated once per model
+//! ([`super::factor`]): a dressed cross-section evaluates it at every point of every
+//! integral, and the direct Π costs ~150 ns there (leptonic logarithms, the R model, seven
+//! Breit–Wigners), the table ~15 ns.
 
 use super::Polarisation;
+use super::factor::FactorTable;
 use super::hadronic::HadronicVp;
 use super::leptonic::{LEPTON_MASSES_GEV, pi_leptonic};
 use crate::constants::ALPHA;
@@ -57,12 +61,24 @@ pub fn standard_hadronic() -> Arc<HadronicVp> {
 
 /// A vacuum-polarisation model: none, leptonic, or leptonic + hadronic.
 ///
-/// Cheap to clone (the hadronic table is shared through an [`Arc`]).
+/// Cheap to clone (the hadronic table and the factor table are shared through an [`Arc`]).
 #[derive(Debug, Clone)]
 pub struct Vp {
     choice: VpChoice,
     hadronic: Option<Arc<HadronicVp>>,
     features: Vec<Feature>,
+    /// 1/(1 − Π(s + i0)) tabulated, built at first use by whichever clone needs it first.
+    /// The build runs on the calling thread (no rayon inside the lock: a rayon worker
+    /// blocked on it while its holder waits for rayon work would deadlock).
+    factor: Arc<OnceLock<FactorTable>>,
+}
+
+/// Multiples of a peak's MΓ at which the factor table breaks (as [`HadronicVp::new`]).
+const PEAK_BREAKS: [f64; 7] = [-8.0, -2.0, -0.5, 0.0, 0.5, 2.0, 8.0];
+
+/// A factor-table cell shared by every [`Vp`] of one kind (leptonic, the default full).
+fn shared_cell(cell: &'static OnceLock<Arc<OnceLock<FactorTable>>>) -> Arc<OnceLock<FactorTable>> {
+    cell.get_or_init(|| Arc::new(OnceLock::new())).clone()
 }
 
 impl Vp {
@@ -72,21 +88,28 @@ impl Vp {
             choice: VpChoice::None,
             hadronic: None,
             features: Vec::new(),
+            factor: Arc::new(OnceLock::new()),
         }
     }
 
     /// Leptons only.
     pub fn leptonic() -> Self {
+        static FACTOR: OnceLock<Arc<OnceLock<FactorTable>>> = OnceLock::new();
         Vp {
             choice: VpChoice::Leptonic,
             hadronic: None,
             features: lepton_edges(),
+            factor: shared_cell(&FACTOR),
         }
     }
 
     /// Leptons and the default hadronic model (tabulated once per process, then shared).
     pub fn full() -> Self {
-        Self::with_hadronic(standard_hadronic())
+        static FACTOR: OnceLock<Arc<OnceLock<FactorTable>>> = OnceLock::new();
+        Vp {
+            factor: shared_cell(&FACTOR),
+            ..Self::with_hadronic(standard_hadronic())
+        }
     }
 
     /// Leptons and a given hadronic Π (a user R table, a varied model).
@@ -103,6 +126,7 @@ impl Vp {
             choice: VpChoice::Full,
             hadronic: Some(hadronic),
             features: lepton_edges(),
+            factor: Arc::new(OnceLock::new()),
         };
         let poles = vp.dressed_poles();
         let moved = |f: &Feature| match *f {
@@ -178,6 +202,68 @@ impl Vp {
         Self::with_hadronic(Arc::new(HadronicVp::new(model)))
     }
 
+    /// Build the s-channel factor table now (otherwise it is built at first use, ≈ 1 ms);
+    /// returns its number of pieces (0 without VP, which needs none).
+    pub fn tabulate(&self) -> usize {
+        match self.choice {
+            VpChoice::None => 0,
+            _ => self.factor_table().pieces(),
+        }
+    }
+
+    fn factor_table(&self) -> &FactorTable {
+        self.factor.get_or_init(|| {
+            let mut breaks = Vec::new();
+            let mut roots = Vec::new();
+            let peak = |m2: f64, mg: f64, breaks: &mut Vec<f64>| {
+                breaks.extend(PEAK_BREAKS.iter().map(|k| m2 + k * mg));
+            };
+            // A user R table's ends are jumps of R, at the first s whose √s the table
+            // covers or no longer covers: the break must sit on that float exactly.
+            let table_ends = self
+                .hadronic
+                .as_ref()
+                .and_then(|h| h.model().table())
+                .map(|t| t.range_gev());
+            let snap = |s: f64| match table_ends {
+                Some((lo, _)) if s == lo * lo => first_float(s, |x| x.sqrt() >= lo),
+                Some((_, hi)) if s == hi * hi => first_float(s, |x| x.sqrt() > hi),
+                _ => s,
+            };
+            for f in &self.features {
+                match *f {
+                    Feature::Edge { s_gev2 } => roots.push(snap(s_gev2)),
+                    Feature::Peak {
+                        s_gev2,
+                        m_gamma_gev2,
+                    } => peak(s_gev2, m_gamma_gev2, &mut breaks),
+                }
+            }
+            if let Some(h) = &self.hadronic {
+                // Every Breit–Wigner's M² (a dressed pole's M² is not among the features),
+                // the smooth R's peaks, a user table's rows (kinks of R), and where the
+                // hadronic table's pieces meet (Re Π jumps there by ~10⁻¹¹, which
+                // |1/(1 − Π)|² up to ~60 on a narrow peak makes visible at our tolerance).
+                let model = h.model();
+                for r in model.resonances() {
+                    peak(
+                        r.mass_gev * r.mass_gev,
+                        r.mass_gev * r.width_gev,
+                        &mut breaks,
+                    );
+                }
+                for (m2, mg) in model.smooth_peaks() {
+                    peak(m2, mg, &mut breaks);
+                }
+                if let Some(t) = model.table() {
+                    breaks.extend(t.sqrt_s_gev().iter().map(|e| e * e));
+                }
+                breaks.extend(h.timelike_breaks());
+            }
+            FactorTable::build(&|s| 1.0 / (1.0 - self.pi(s)), &breaks, &roots)
+        })
+    }
+
     pub fn choice(&self) -> VpChoice {
         self.choice
     }
@@ -213,6 +299,17 @@ impl Vp {
     }
 }
 
+/// The first float near `s` where `pred` holds (pred false just below, true from there up).
+fn first_float(mut s: f64, pred: impl Fn(f64) -> bool) -> f64 {
+    while pred(s) {
+        s = s.next_down();
+    }
+    while !pred(s) {
+        s = s.next_up();
+    }
+    s
+}
+
 fn lepton_edges() -> Vec<Feature> {
     LEPTON_MASSES_GEV
         .iter()
@@ -225,6 +322,16 @@ fn lepton_edges() -> Vec<Feature> {
 impl Polarisation for Vp {
     fn pi(&self, q2_gev2: f64) -> Complex64 {
         self.pi_leptonic(q2_gev2) + self.pi_hadronic(q2_gev2)
+    }
+    /// From the factor table (≤ 10⁻⁹ relative from the direct 1/(1 − Π); direct outside
+    /// its range).
+    fn s_channel_factor(&self, s_gev2: f64) -> Complex64 {
+        if self.choice == VpChoice::None {
+            return Complex64::new(1.0, 0.0);
+        }
+        self.factor_table()
+            .get(s_gev2)
+            .unwrap_or_else(|| 1.0 / (1.0 - self.pi(s_gev2)))
     }
     fn features(&self) -> &[Feature] {
         &self.features

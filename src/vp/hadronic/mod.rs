@@ -227,12 +227,12 @@ impl HadronicVp {
         // A user table's rows are kinks of R, each a weak (x ln x) singularity of Re Π: there
         // the goal is 1e-7 relative, far below any table's uncertainty, to keep the build short.
         let rel = if model.table().is_some() { 1e-7 } else { 1e-9 };
-        let tol = |v: &[f64]| rel * v.iter().fold(0.0f64, |m, x| m.max(x.abs())) + 1e-14;
+        let tol = |p: &chebyshev::PieceStats| rel * p.largest + 1e-14;
         let (lo, hi) = (Q2_TABLE_MIN.ln(), Q2_TABLE_MAX.ln());
         let mut space_breaks: Vec<f64> =
             (0..16).map(|k| lo + (hi - lo) * k as f64 / 16.0).collect();
         space_breaks.push(hi);
-        let spacelike = Chebyshev::build(&|x: f64| re_rule(-x.exp()), &space_breaks, &tol);
+        let spacelike = Chebyshev::build(&|x: f64| [re_rule(-x.exp())], &space_breaks, &tol);
         let mut time_breaks = vec![lo, hi];
         for &e in edges.iter().chain(&knots) {
             time_breaks.push(e.ln());
@@ -245,7 +245,7 @@ impl HadronicVp {
         time_breaks.retain(|&x| x >= lo && x <= hi);
         time_breaks.sort_by(f64::total_cmp);
         time_breaks.dedup();
-        let timelike = Chebyshev::build(&|x: f64| re_rule(x.exp()), &time_breaks, &tol);
+        let timelike = Chebyshev::build(&|x: f64| [re_rule(x.exp())], &time_breaks, &tol);
         let bw = model.resonances().iter().map(BreitWigner::new).collect();
         let features = model.features().to_vec();
         HadronicVp {
@@ -281,6 +281,27 @@ impl HadronicVp {
         )
     }
 
+    /// Where the timelike table's pieces meet, as the first s > 0 evaluated on the upper
+    /// piece (Re Π jumps there by up to the pieces' tolerance; a table of a function of Π
+    /// must not straddle it). The piece is chosen by ln s, so the break is adjusted until
+    /// ln agrees.
+    pub(crate) fn timelike_breaks(&self) -> Vec<f64> {
+        self.timelike
+            .edges()
+            .iter()
+            .map(|&x| {
+                let mut s = x.exp();
+                while s.ln() >= x {
+                    s = s.next_down();
+                }
+                while s.ln() < x {
+                    s = s.next_up();
+                }
+                s
+            })
+            .collect()
+    }
+
     /// Re Π of the smooth R from the table (the rule beyond it).
     fn smooth_re(&self, q2: f64) -> f64 {
         let a = q2.abs();
@@ -289,9 +310,9 @@ impl HadronicVp {
         } else if a > Q2_TABLE_MAX {
             smooth_rule(&self.rule, &self.g, &self.model, q2)
         } else if q2 < 0.0 {
-            self.spacelike.eval(a.ln())
+            self.spacelike.eval(a.ln())[0]
         } else {
-            self.timelike.eval(a.ln())
+            self.timelike.eval(a.ln())[0]
         }
     }
 
