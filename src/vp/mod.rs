@@ -11,7 +11,7 @@
 //!   ([`standard_hadronic`] shares the default table across the process);
 //! - [`Dressed`]: the link σ·|1 − Π(s)|⁻² of the chain.
 //!
-//! [`Vp`] tabulates its s-channel factor 1/(1 − Π(s + i0)) at first use (`factor`, ≈ 1 ms,
+//! [`Vp`] tabulates its s-channel factor 1/(1 − Π(s + i0)) at first use (`factor`, ≈ 4 ms,
 //! agreeing with the direct evaluation to 10⁻⁹ relative); [`Polarisation::pi`] stays exact.
 
 mod dressed;
