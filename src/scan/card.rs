@@ -302,21 +302,6 @@ fn fit_plan(raw: &RawFit, resonances: &[TemplateResonance]) -> Result<FitPlan, S
     })
 }
 
-/// A shared VP model as a [`Polarisation`] value (for the dressing link).
-struct SharedVp(Arc<dyn Polarisation>);
-
-impl Polarisation for SharedVp {
-    fn pi(&self, q2_gev2: f64) -> num_complex::Complex64 {
-        self.0.pi(q2_gev2)
-    }
-    fn features(&self) -> &[crate::process::Feature] {
-        self.0.features()
-    }
-    fn describe(&self) -> String {
-        self.0.describe()
-    }
-}
-
 /// A card key with the problem and what is allowed.
 fn card_err(key: &str, message: impl Into<String>) -> ScanError {
     ScanError::Card {
@@ -629,8 +614,7 @@ impl TryFrom<RawScanCard> for ScanPlan {
         )?;
         let vp_choice = vp_by_name("vp.model", raw.vp.model.as_deref().unwrap_or("full"))?;
         let vp: Arc<dyn Polarisation> = Arc::new(Vp::from_choice(vp_choice));
-        let continuum: Arc<dyn CrossSection + Send> =
-            Arc::new(Dressed::new(born, SharedVp(vp.clone())));
+        let continuum: Arc<dyn CrossSection + Send> = Arc::new(Dressed::new(born, vp.clone()));
         let scheme = radiator_by_name(
             "radiation.radiator",
             raw.radiation.radiator.as_deref().unwrap_or("kf2"),

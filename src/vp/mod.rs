@@ -52,24 +52,31 @@ pub trait Polarisation: Sync + Send {
     }
 }
 
-/// A borrowed model is a model (the chain links hold `&Vp` without cloning tables).
-impl<T: Polarisation + ?Sized> Polarisation for &T {
-    fn pi(&self, q2_gev2: f64) -> Complex64 {
-        (**self).pi(q2_gev2)
-    }
-    fn features(&self) -> &[Feature] {
-        (**self).features()
-    }
-    fn describe(&self) -> String {
-        (**self).describe()
-    }
-    fn s_channel_factor(&self, s_gev2: f64) -> Complex64 {
-        (**self).s_channel_factor(s_gev2)
-    }
-    fn t_channel_factor(&self, t_gev2: f64) -> f64 {
-        (**self).t_channel_factor(t_gev2)
-    }
+/// A borrowed or shared model is the model itself (chain links hold `&Vp` or an
+/// `Arc<dyn Polarisation>` without cloning tables); every method forwards, so a tabulated
+/// factor stays tabulated.
+macro_rules! forward_polarisation {
+    ($($wrapper:ty),*) => {$(
+        impl<T: Polarisation + ?Sized> Polarisation for $wrapper {
+            fn pi(&self, q2_gev2: f64) -> Complex64 {
+                (**self).pi(q2_gev2)
+            }
+            fn features(&self) -> &[Feature] {
+                (**self).features()
+            }
+            fn describe(&self) -> String {
+                (**self).describe()
+            }
+            fn s_channel_factor(&self, s_gev2: f64) -> Complex64 {
+                (**self).s_channel_factor(s_gev2)
+            }
+            fn t_channel_factor(&self, t_gev2: f64) -> f64 {
+                (**self).t_channel_factor(t_gev2)
+            }
+        }
+    )*};
 }
+forward_polarisation!(&T, std::sync::Arc<T>);
 
 /// No vacuum polarisation: Π = 0 (the Born, "bare", choice).
 #[derive(Debug, Clone, Copy, Default, PartialEq)]
