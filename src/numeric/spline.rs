@@ -75,18 +75,31 @@ impl CubicSpline {
 
     /// The interpolated value at `t`.
     pub fn eval(&self, t: f64) -> f64 {
-        let n = self.x.len();
-        let i = match self.x.partition_point(|&xi| xi <= t) {
+        let (i, w) = Self::local_weights(&self.x, t);
+        w[0] * self.y[i] + w[1] * self.y[i + 1] + w[2] * self.m[i] + w[3] * self.m[i + 1]
+    }
+
+    /// The piece holding `t` on `knots` and the weights of (yᵢ, yᵢ₊₁, mᵢ, mᵢ₊₁) in the
+    /// value there (m: second derivatives). A spline is linear in its values and second
+    /// derivatives, which is what a linear map of splines (the scan's response matrix)
+    /// accumulates without building one.
+    pub fn local_weights(knots: &[f64], t: f64) -> (usize, [f64; 4]) {
+        let n = knots.len();
+        let i = match knots.partition_point(|&xi| xi <= t) {
             0 => 0,
             k if k >= n => n - 2,
             k => k - 1,
         };
-        let h = self.x[i + 1] - self.x[i];
-        let a = (self.x[i + 1] - t) / h;
-        let b = (t - self.x[i]) / h;
-        a * self.y[i]
-            + b * self.y[i + 1]
-            + ((a * a * a - a) * self.m[i] + (b * b * b - b) * self.m[i + 1]) * h * h / 6.0
+        let h = knots[i + 1] - knots[i];
+        let a = (knots[i + 1] - t) / h;
+        let b = (t - knots[i]) / h;
+        let h2 = h * h / 6.0;
+        (i, [a, b, (a * a * a - a) * h2, (b * b * b - b) * h2])
+    }
+
+    /// The second derivatives at the knots (0 at both ends: natural).
+    pub fn second_derivatives(&self) -> &[f64] {
+        &self.m
     }
 
     /// The knot range [x₀, xₙ₋₁].

@@ -45,6 +45,10 @@ pub struct ShapeModel {
     sqrt_s_gev: Vec<f64>,
     /// θ = projection · y; rows are template functions.
     projection: Vec<Vec<f64>>,
+    /// The residuals r = residual_map · y at the points (r = y − Φθ).
+    residual_map: Matrix,
+    /// Row k: the spline's second derivative at knot k per unit residual at each knot.
+    second_derivatives: Vec<Vec<f64>>,
     features: Vec<Feature>,
 }
 
@@ -85,6 +89,8 @@ impl ShapeModel {
             resonances,
             sqrt_s_gev,
             projection: Vec::new(),
+            residual_map: Matrix::zeros(n),
+            second_derivatives: Vec::new(),
             features: Vec::new(),
         };
         // Normal equations: (ΦᵀWΦ) θ = ΦᵀW y, so P = (ΦᵀWΦ)⁻¹ΦᵀW.
@@ -113,6 +119,26 @@ impl ShapeModel {
                     .map(|i| (0..m).map(|b| inv.get(a, b) * phi[i][b]).sum::<f64>() * weights[i])
                     .collect()
             })
+            .collect();
+        for (l, phi_l) in phi.iter().enumerate() {
+            for j in 0..n {
+                let fit: f64 = (0..m).map(|a| phi_l[a] * model.projection[a][j]).sum();
+                model
+                    .residual_map
+                    .set(l, j, f64::from(u8::from(l == j)) - fit);
+            }
+        }
+        let mut columns = Vec::with_capacity(n);
+        for j in 0..n {
+            let mut unit = vec![0.0; n];
+            unit[j] = 1.0;
+            columns.push(match CubicSpline::new(model.sqrt_s_gev.clone(), unit) {
+                Ok(sp) => sp.second_derivatives().to_vec(),
+                Err(_) => vec![0.0; n],
+            });
+        }
+        model.second_derivatives = (0..n)
+            .map(|k| columns.iter().map(|c| c[k]).collect())
             .collect();
         let mut features = vec![Feature::Edge { s_gev2: s_th }];
         features.extend_from_slice(model.continuum.features());
@@ -175,6 +201,91 @@ impl ShapeModel {
             lo: (e_lo, resid[0] / self.continuum.sigma_nb(e_lo * e_lo)),
             hi: (e_hi, resid[n - 1] / self.continuum.sigma_nb(e_hi * e_hi)),
         }
+    }
+}
+
+/// A weighted sum Σ w·L(s) over nodes, kept linear in the point values y: after the nodes of
+/// a quadrature, [`ShapeModel::row`] turns it into the row k with Σ w·L_y(s) = k·y for every
+/// y. The template functions, the spline's values and second derivatives per piece, and the
+/// continuum below and above the points are summed separately (O(1) work per node).
+#[derive(Debug, Clone)]
+pub struct RowSum {
+    template: Vec<f64>,
+    values: Vec<f64>,
+    second: Vec<f64>,
+}
+
+impl ShapeModel {
+    /// An empty sum for [`Self::add`].
+    pub fn row_sum(&self) -> RowSum {
+        let n = self.sqrt_s_gev.len();
+        RowSum {
+            template: vec![0.0; 1 + self.resonances.len()],
+            values: vec![0.0; n],
+            second: vec![0.0; n],
+        }
+    }
+
+    /// Add the node (s, w): the same pieces [`LineShape::sigma_nb`] evaluates, by weight.
+    pub fn add(&self, sum: &mut RowSum, s: f64, w: f64) {
+        if s <= self.continuum.threshold_s_gev2() {
+            return;
+        }
+        let phi0 = self.continuum.sigma_nb(s);
+        sum.template[0] += w * phi0;
+        for (r, t) in self.resonances.iter().zip(&mut sum.template[1..]) {
+            *t += w * r.shape(s);
+        }
+        let n = self.sqrt_s_gev.len();
+        let (e_lo, e_hi) = (self.sqrt_s_gev[0], self.sqrt_s_gev[n - 1]);
+        let e = s.sqrt();
+        if e <= e_lo || n < 2 {
+            sum.values[0] += w * phi0 / self.continuum.sigma_nb(e_lo * e_lo);
+        } else if e >= e_hi {
+            sum.values[n - 1] += w * phi0 / self.continuum.sigma_nb(e_hi * e_hi);
+        } else {
+            let (i, c) = CubicSpline::local_weights(&self.sqrt_s_gev, e);
+            sum.values[i] += w * c[0];
+            sum.values[i + 1] += w * c[1];
+            sum.second[i] += w * c[2];
+            sum.second[i + 1] += w * c[3];
+        }
+    }
+
+    /// The row k of a finished sum: Σ w·L_y(s) = k·y.
+    pub fn row(&self, sum: &RowSum) -> Vec<f64> {
+        let n = self.sqrt_s_gev.len();
+        // Weights of the residuals r: their values plus their second derivatives' share.
+        let u: Vec<f64> = (0..n)
+            .map(|l| {
+                sum.values[l]
+                    + (0..n)
+                        .map(|k| sum.second[k] * self.second_derivatives[k][l])
+                        .sum::<f64>()
+            })
+            .collect();
+        (0..n)
+            .map(|j| {
+                let template: f64 = sum
+                    .template
+                    .iter()
+                    .zip(&self.projection)
+                    .map(|(t, p)| t * p[j])
+                    .sum();
+                let residual: f64 = (0..n).map(|l| u[l] * self.residual_map.get(l, j)).sum();
+                template + residual
+            })
+            .collect()
+    }
+
+    /// The threshold below which every line shape of the model vanishes.
+    pub fn threshold_s_gev2(&self) -> f64 {
+        self.continuum.threshold_s_gev2()
+    }
+
+    /// The features every line shape of the model has (template edges and peaks, knots).
+    pub fn features(&self) -> &[Feature] {
+        &self.features
     }
 }
 

@@ -43,6 +43,9 @@ pub struct Unfolded {
     pub iterations: usize,
     /// The largest relative change in the last iteration.
     pub last_change: f64,
+    /// The response matrix the iteration used ([`ForwardChain::response_fast`]); None when
+    /// each iteration ran the chain itself.
+    pub response: Option<Matrix>,
 }
 
 /// The chain applied to the line shape through `y`, at every scan point (in parallel).
@@ -69,10 +72,16 @@ pub fn unfold(
     sigma_obs_nb: &[f64],
     settings: UnfoldSettings,
 ) -> Result<Unfolded, ScanError> {
+    // The chain is linear in y: with the response matrix every iteration is a product.
+    let response = chain.response_fast(model, spread_mev);
+    let forward = |y: &[f64]| match &response {
+        Some(k) => k.apply(y),
+        None => forward(chain, model, spread_mev, y),
+    };
     let mut y = sigma_obs_nb.to_vec();
     let mut last_change = f64::INFINITY;
     for iteration in 1..=settings.max_iterations {
-        let obs = forward(chain, model, spread_mev, &y);
+        let obs = forward(&y);
         let mut change = 0.0f64;
         let mut next = Vec::with_capacity(y.len());
         for i in 0..y.len() {
@@ -92,13 +101,14 @@ pub fn unfold(
         y = next;
         last_change = change;
         if change < settings.tolerance {
-            let obs = forward(chain, model, spread_mev, &y);
+            let obs = forward(&y);
             let one_plus_delta = obs.iter().zip(&y).map(|(o, v)| o / v).collect();
             return Ok(Unfolded {
                 sigma_dressed_nb: y,
                 one_plus_delta,
                 iterations: iteration,
                 last_change,
+                response,
             });
         }
     }
@@ -110,8 +120,12 @@ pub fn unfold(
 }
 
 /// The response matrix Kᵢⱼ = σ_obs[L(eⱼ)](sᵢ): the observed σ at point i per nb of dressed
-/// σ at point j (dimensionless).
+/// σ at point j (dimensionless). In one pass over the quadrature nodes where the fast paths
+/// apply, else column by column through the chain.
 pub fn response(chain: &ForwardChain, model: &ShapeModel, spread_mev: &[f64]) -> Matrix {
+    if let Some(k) = chain.response_fast(model, spread_mev) {
+        return k;
+    }
     let n = model.sqrt_s_gev().len();
     let columns: Vec<Vec<f64>> = (0..n)
         .into_par_iter()
