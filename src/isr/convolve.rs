@@ -455,10 +455,11 @@ impl Isr {
     }
 
     /// The nodes of the fixed path at s for every line shape with these `features` and
-    /// threshold: `visit(s′, w)` for each node of the higher rule, so that Σ w·σ_d(s′) is the
-    /// value [`Isr::observe`] takes from its fixed path for any such σ_d. A linear map of
-    /// line shapes (the scan's response matrix) is then one pass over the nodes. No error
-    /// estimate: check one line shape with [`Isr::observe`].
+    /// threshold: `visit(s′, w)` for each node of the lower rule, so that Σ w·σ_d(s′) differs
+    /// from the value [`Isr::observe`] takes from its fixed path for any such σ_d by at most
+    /// that path's error estimate (the two rules' difference). A linear map of line shapes
+    /// (the scan's response matrix) is then one pass over the nodes. No error estimate of its
+    /// own: check one line shape with [`Isr::observe`].
     ///
     /// Returns false, having visited nothing, where the fixed path does not apply (more
     /// breaks than it takes, a peak at √s); true, visiting nothing, where no event passes.
@@ -479,11 +480,11 @@ impl Isr {
         let Some(panels) = &setup.panels else {
             return Ok(false);
         };
-        let hi = &rules().hi;
+        let lo = &rules().lo;
         panels.for_each(&setup.kernel, |p| {
-            for i in 0..hi.nodes.len() {
-                let (w, s_prime) = setup.kernel.node(&p, hi.nodes[i], hi.ln_nodes[i]);
-                visit(s_prime, hi.weights[i] * w);
+            for i in 0..lo.nodes.len() {
+                let (w, s_prime) = setup.kernel.node(&p, lo.nodes[i], lo.ln_nodes[i]);
+                visit(s_prime, lo.weights[i] * w);
             }
         });
         Ok(true)

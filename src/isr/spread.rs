@@ -262,9 +262,10 @@ fn rules() -> &'static (GaussHermite, GaussHermite, GaussLegendre, GaussLegendre
 }
 
 /// The nodes of the fast path at √s = W for every line shape with these `features` and
-/// threshold: `visit(W′, w)` for each node of the higher rule, so that Σ w·σ(W′²) is the
-/// fast path's value (a linear map of line shapes, the scan's response matrix, is one pass
-/// over the nodes). A spread of 0 is the one node (W, 1).
+/// threshold: `visit(W′, w)` for each node of the lower rule, so that Σ w·σ(W′²) differs
+/// from the fast path's value by at most its error estimate (a linear map of line shapes,
+/// the scan's response matrix, is one pass over the nodes). A spread of 0 is the one node
+/// (W, 1).
 ///
 /// Returns false, having visited nothing, where the fast path does not apply (a narrow peak
 /// near the window, the window reaching the threshold, too many edges in it). No error
@@ -290,7 +291,7 @@ pub fn visit_spread_nodes(
     }
     match Window::new(features, sqrt_s_gev, sw, lo, hi) {
         Some(window) => {
-            window.visit(Order::High, visit);
+            window.visit(Order::Low, visit);
             true
         }
         None => false,

@@ -75,26 +75,34 @@ impl CubicSpline {
 
     /// The interpolated value at `t`.
     pub fn eval(&self, t: f64) -> f64 {
-        let (i, w) = Self::local_weights(&self.x, t);
+        self.eval_in_piece(Self::piece(&self.x, t), t)
+    }
+
+    /// The value at `t` on piece `i` (between knots i and i + 1; a caller that knows the
+    /// piece saves the search).
+    pub fn eval_in_piece(&self, i: usize, t: f64) -> f64 {
+        let w = Self::piece_weights(&self.x, i, t);
         w[0] * self.y[i] + w[1] * self.y[i + 1] + w[2] * self.m[i] + w[3] * self.m[i + 1]
     }
 
-    /// The piece holding `t` on `knots` and the weights of (yᵢ, yᵢ₊₁, mᵢ, mᵢ₊₁) in the
-    /// value there (m: second derivatives). A spline is linear in its values and second
-    /// derivatives, which is what a linear map of splines (the scan's response matrix)
-    /// accumulates without building one.
-    pub fn local_weights(knots: &[f64], t: f64) -> (usize, [f64; 4]) {
-        let n = knots.len();
-        let i = match knots.partition_point(|&xi| xi <= t) {
+    /// The piece of `knots` holding `t` (the end pieces beyond the knots).
+    pub fn piece(knots: &[f64], t: f64) -> usize {
+        match knots.partition_point(|&xi| xi <= t) {
             0 => 0,
-            k if k >= n => n - 2,
+            k if k >= knots.len() => knots.len() - 2,
             k => k - 1,
-        };
+        }
+    }
+
+    /// The weights of (yᵢ, yᵢ₊₁, mᵢ, mᵢ₊₁) (m: second derivatives) in the value at `t` on
+    /// piece `i`. A spline is linear in its values and second derivatives, which is what a
+    /// linear map of splines (the scan's response matrix) accumulates without building one.
+    pub fn piece_weights(knots: &[f64], i: usize, t: f64) -> [f64; 4] {
         let h = knots[i + 1] - knots[i];
         let a = (knots[i + 1] - t) / h;
         let b = (t - knots[i]) / h;
         let h2 = h * h / 6.0;
-        (i, [a, b, (a * a * a - a) * h2, (b * b * b - b) * h2])
+        [a, b, (a * a * a - a) * h2, (b * b * b - b) * h2]
     }
 
     /// The second derivatives at the knots (0 at both ends: natural).

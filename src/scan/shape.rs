@@ -49,6 +49,12 @@ pub struct ShapeModel {
     residual_map: Matrix,
     /// Row k: the spline's second derivative at knot k per unit residual at each knot.
     second_derivatives: Vec<Vec<f64>>,
+    /// The continuum φ₀ at the lowest and the highest point.
+    phi0_ends: (f64, f64),
+    /// The spline piece at the start of each of equal bins in √s over the points (a lookup
+    /// that replaces the binary search in the hot loops), and bins per GeV.
+    piece_at_bin: Vec<usize>,
+    bins_per_gev: f64,
     features: Vec<Feature>,
 }
 
@@ -91,6 +97,9 @@ impl ShapeModel {
             projection: Vec::new(),
             residual_map: Matrix::zeros(n),
             second_derivatives: Vec::new(),
+            phi0_ends: (0.0, 0.0),
+            piece_at_bin: Vec::new(),
+            bins_per_gev: 0.0,
             features: Vec::new(),
         };
         // Normal equations: (ΦᵀWΦ) θ = ΦᵀW y, so P = (ΦᵀWΦ)⁻¹ΦᵀW.
@@ -140,6 +149,21 @@ impl ShapeModel {
         model.second_derivatives = (0..n)
             .map(|k| columns.iter().map(|c| c[k]).collect())
             .collect();
+        let (e_lo, e_hi) = (model.sqrt_s_gev[0], model.sqrt_s_gev[n - 1]);
+        model.phi0_ends = (
+            model.continuum.sigma_nb(e_lo * e_lo),
+            model.continuum.sigma_nb(e_hi * e_hi),
+        );
+        if n >= 2 {
+            let bins = 8 * n;
+            model.bins_per_gev = bins as f64 / (e_hi - e_lo);
+            model.piece_at_bin = (0..bins)
+                .map(|b| {
+                    let start = e_lo + b as f64 / model.bins_per_gev;
+                    CubicSpline::piece(&model.sqrt_s_gev, start)
+                })
+                .collect();
+        }
         let mut features = vec![Feature::Edge { s_gev2: s_th }];
         features.extend_from_slice(model.continuum.features());
         features.extend(model.resonances.iter().map(|r| Feature::Peak {
@@ -240,11 +264,12 @@ impl ShapeModel {
         let (e_lo, e_hi) = (self.sqrt_s_gev[0], self.sqrt_s_gev[n - 1]);
         let e = s.sqrt();
         if e <= e_lo || n < 2 {
-            sum.values[0] += w * phi0 / self.continuum.sigma_nb(e_lo * e_lo);
+            sum.values[0] += w * phi0 / self.phi0_ends.0;
         } else if e >= e_hi {
-            sum.values[n - 1] += w * phi0 / self.continuum.sigma_nb(e_hi * e_hi);
+            sum.values[n - 1] += w * phi0 / self.phi0_ends.1;
         } else {
-            let (i, c) = CubicSpline::local_weights(&self.sqrt_s_gev, e);
+            let i = self.piece(e);
+            let c = CubicSpline::piece_weights(&self.sqrt_s_gev, i, e);
             sum.values[i] += w * c[0];
             sum.values[i + 1] += w * c[1];
             sum.second[i] += w * c[2];
@@ -276,6 +301,17 @@ impl ShapeModel {
                 template + residual
             })
             .collect()
+    }
+
+    /// The spline piece holding e, strictly inside the points' range.
+    fn piece(&self, e: f64) -> usize {
+        let x = &self.sqrt_s_gev;
+        let bin = ((e - x[0]) * self.bins_per_gev) as usize;
+        let mut i = self.piece_at_bin[bin.min(self.piece_at_bin.len() - 1)];
+        while i + 2 < x.len() && x[i + 1] <= e {
+            i += 1;
+        }
+        i
     }
 
     /// The threshold below which every line shape of the model vanishes.
@@ -329,7 +365,7 @@ impl CrossSection for LineShape<'_> {
         } else {
             self.spline
                 .as_ref()
-                .map_or(self.lo.1 * phi0, |sp| sp.eval(e))
+                .map_or(self.lo.1 * phi0, |sp| sp.eval_in_piece(m.piece(e), e))
         };
         v + resid
     }
