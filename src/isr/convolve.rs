@@ -24,7 +24,7 @@
 //! accuracy, the whole integral is redone by the adaptive Gauss–Kronrod integrator with
 //! breakpoints at the features and around every peak, which reports its own error.
 
-use super::{Cuts, IsrError, Radiator, Scheme};
+use super::{Cuts, IsrError, Order, Radiator, Scheme};
 use crate::numeric::{GaussLegendre, Status, Tolerance, integrate};
 use crate::process::{CrossSection, Feature};
 use std::sync::OnceLock;
@@ -460,11 +460,10 @@ impl Isr {
     }
 
     /// The nodes of the fixed path at s for every line shape with these `features` and
-    /// threshold: `visit(s′, w)` for each node of the lower rule, so that Σ w·σ_d(s′) differs
-    /// from the value [`Isr::observe`] takes from its fixed path for any such σ_d by at most
-    /// that path's error estimate (the two rules' difference). A linear map of line shapes
-    /// (the scan's response matrix) is then one pass over the nodes. No error estimate of its
-    /// own: check one line shape with [`Isr::observe`].
+    /// threshold: `visit(s′, w)` for each node of one rule, so that Σ w·σ_d(s′) is, with
+    /// [`Order::High`], the value [`Isr::observe`] takes from its fixed path for any such σ_d,
+    /// with [`Order::Low`] the value its error estimate compares with. A linear map of line
+    /// shapes (the scan's response matrix) is then one pass over the nodes.
     ///
     /// Returns false, having visited nothing, where the fixed path does not apply (more
     /// breaks than it takes, a peak at √s); true, visiting nothing, where no event passes.
@@ -476,6 +475,7 @@ impl Isr {
         features: &[Feature],
         threshold_s_gev2: f64,
         s_gev2: f64,
+        order: Order,
         mut visit: impl FnMut(f64, f64),
     ) -> Result<bool, IsrError> {
         let setup = self.setup(features, threshold_s_gev2, s_gev2)?;
@@ -485,11 +485,14 @@ impl Isr {
         let Some(panels) = &setup.panels else {
             return Ok(false);
         };
-        let lo = &rules().lo;
+        let rule = match order {
+            Order::Low => &rules().lo,
+            Order::High => &rules().hi,
+        };
         panels.for_each(&setup.kernel, |p| {
-            for i in 0..lo.nodes.len() {
-                let (w, s_prime) = setup.kernel.node(&p, lo.nodes[i], lo.ln_nodes[i]);
-                visit(s_prime, lo.weights[i] * w);
+            for i in 0..rule.nodes.len() {
+                let (w, s_prime) = setup.kernel.node(&p, rule.nodes[i], rule.ln_nodes[i]);
+                visit(s_prime, rule.weights[i] * w);
             }
         });
         Ok(true)

@@ -15,7 +15,7 @@ pub use convolve::{CHECK_ORDER, FIXED_ORDER, Isr, Observed, Radiated};
 pub use cuts::Cuts;
 pub use fsr::schwinger_factor;
 pub use radiator::{Radiator, Scheme};
-pub use spread::{Smeared, visit_spread_nodes};
+pub use spread::{Order, Smeared, visit_spread_nodes};
 
 use thiserror::Error;
 

@@ -15,10 +15,12 @@ const PEAK_STEPS: [f64; 9] = [-30.0, -8.0, -2.0, -0.5, 0.0, 0.5, 2.0, 8.0, 30.0]
 /// its error estimate).
 const FAST_ORDERS: (usize, usize) = (16, 28);
 /// Points of the Gauss–Legendre rules per piece where edges cut the window (the difference
-/// of the two is the error estimate): the pieces are cut at [`GAUSS_STEPS`] too, so at most
-/// 1σ_W long in the core (4σ_W in the tails, where the weight is below e⁻⁸), on which a smooth σ times the Gaussian is a polynomial
+/// of the two is the error estimate): the pieces are cut at [`PIECE_STEPS`] too, so at most
+/// 2σ_W long in the core (4σ_W in the tails, where the weight is below e⁻⁸), on which a smooth σ times the Gaussian is a polynomial
 /// of modest degree.
 const PIECE_ORDERS: (usize, usize) = (8, 12);
+/// Where the pieces also cut the Gaussian, in σ_W.
+const PIECE_STEPS: [f64; 5] = [-4.0, -2.0, 0.0, 2.0, 4.0];
 /// The fast path is taken only when every peak near the window is at least this many σ_W
 /// wide: then σ is smooth on the scale of the Gaussian, except at edges, where it is cut.
 const FAST_MIN_WIDTH_SIGMAS: f64 = 4.0;
@@ -136,9 +138,9 @@ impl<C: CrossSection> Smeared<C> {
     }
 }
 
-/// Which of the two fixed rules (their difference is the error estimate).
-#[derive(Debug, Clone, Copy, PartialEq)]
-enum Order {
+/// Which of the two fixed rules of a fast path (their difference is its error estimate).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Order {
     Low,
     High,
 }
@@ -152,7 +154,7 @@ struct Window {
     centre: f64,
     sw: f64,
     /// Piece ends (sorted, the window's ends included); `count` = 0 for Gauss–Hermite.
-    ends: [f64; MAX_WINDOW_EDGES + 2 + GAUSS_STEPS.len()],
+    ends: [f64; MAX_WINDOW_EDGES + 2 + PIECE_STEPS.len()],
     count: usize,
 }
 
@@ -163,7 +165,7 @@ impl Window {
         let mut window = Window {
             centre,
             sw,
-            ends: [0.0; MAX_WINDOW_EDGES + 2 + GAUSS_STEPS.len()],
+            ends: [0.0; MAX_WINDOW_EDGES + 2 + PIECE_STEPS.len()],
             count: 0,
         };
         let mut edges = 0;
@@ -195,7 +197,7 @@ impl Window {
         if edges > 0 {
             // Pieces between the edges, also cut across the Gaussian itself.
             let mut n = edges;
-            for k in GAUSS_STEPS {
+            for k in PIECE_STEPS {
                 window.ends[n] = centre + k * sw;
                 n += 1;
             }
@@ -262,10 +264,10 @@ fn rules() -> &'static (GaussHermite, GaussHermite, GaussLegendre, GaussLegendre
 }
 
 /// The nodes of the fast path at √s = W for every line shape with these `features` and
-/// threshold: `visit(W′, w)` for each node of the lower rule, so that Σ w·σ(W′²) differs
-/// from the fast path's value by at most its error estimate (a linear map of line shapes,
-/// the scan's response matrix, is one pass over the nodes). A spread of 0 is the one node
-/// (W, 1).
+/// threshold: `visit(W′, w)` for each node of one rule: with [`Order::High`] Σ w·σ(W′²) is
+/// the fast path's value, with [`Order::Low`] the value its error estimate compares with (a
+/// linear map of line shapes, the scan's response matrix, is one pass over the nodes). A
+/// spread of 0 is the one node (W, 1).
 ///
 /// Returns false, having visited nothing, where the fast path does not apply (a narrow peak
 /// near the window, the window reaching the threshold, too many edges in it). No error
@@ -275,6 +277,7 @@ pub fn visit_spread_nodes(
     threshold_s_gev2: f64,
     sqrt_s_gev: f64,
     spread_mev: f64,
+    order: Order,
     mut visit: impl FnMut(f64, f64),
 ) -> bool {
     let sw = spread_mev * 1e-3;
@@ -291,7 +294,7 @@ pub fn visit_spread_nodes(
     }
     match Window::new(features, sqrt_s_gev, sw, lo, hi) {
         Some(window) => {
-            window.visit(Order::Low, visit);
+            window.visit(order, visit);
             true
         }
         None => false,

@@ -34,7 +34,7 @@ use super::forward::ForwardChain;
 use super::shape::{ShapeModel, TemplateResonance};
 use super::unfold::{UnfoldSettings, response, unfold};
 use crate::budget::{Budget, Correlation, Kind, symmetric_shift};
-use crate::isr::Scheme;
+use crate::isr::{Order, Scheme};
 use crate::lumi::{Monitor, Prediction};
 use crate::process::CrossSection;
 use crate::vp::Polarisation;
@@ -286,8 +286,10 @@ pub struct CorrectedScan {
     pub iterations: usize,
     pub last_change: f64,
     /// max |σ_obs[L](sᵢ) − σ_obs,ᵢ|/σ_obs,ᵢ with the converged line shape L pushed through
-    /// the chain itself (its adaptive error control, not the response matrix's fixed nodes):
-    /// checks the response matrix the iteration and the covariance rely on.
+    /// the chain by the higher rules of the fast paths the response matrix was built with
+    /// (their error estimate for L), or through the chain itself (its adaptive error
+    /// control) where it was iterated directly: checks the response matrix the iteration
+    /// and the covariance rely on.
     pub response_residual: f64,
 }
 
@@ -343,22 +345,37 @@ pub fn correct_scan(plan: &ScanPlan, data: &[ScanPoint]) -> Result<CorrectedScan
     let (nominal, model) = unfold_with(&plan.chain, &energies, &spread)?;
     let y = &nominal.sigma_dressed_nb;
 
-    // The response matrix, its inverse, and the check that the converged line shape,
-    // pushed through the chain itself, reproduces σ_obs.
-    let k = match &nominal.response {
-        Some(k) => k.clone(),
-        None => response(&plan.chain, &model, &spread),
+    // The response matrix, its inverse, and the check of the converged line shape: with
+    // the fast paths' higher rules (their error estimate, for this shape), or where the
+    // iteration ran the chain itself, through the chain (its own error control).
+    let (k, check) = match &nominal.response {
+        Some(k) => (
+            k.clone(),
+            plan.chain
+                .response_fast(&model, &spread, Order::High)
+                .map(|high| high.apply(y)),
+        ),
+        None => (response(&plan.chain, &model, &spread), None),
     };
     let kinv = k
         .inverse()
         .ok_or_else(|| ScanError::Model("the response matrix of the scan is singular".into()))?;
-    let shape = model.through(y);
-    let response_residual = energies
-        .par_iter()
-        .zip(&spread)
+    let through_chain: Vec<f64> = match check {
+        Some(values) => values,
+        None => {
+            let shape = model.through(y);
+            energies
+                .par_iter()
+                .zip(&spread)
+                .map(|(&e, &w)| plan.chain.observed_nb(&shape, e, w))
+                .collect()
+        }
+    };
+    let response_residual = through_chain
+        .iter()
         .zip(&obs)
-        .map(|((&e, &w), o)| (plan.chain.observed_nb(&shape, e, w) / o - 1.0).abs())
-        .reduce(|| 0.0, f64::max);
+        .map(|(a, o)| (a / o - 1.0).abs())
+        .fold(0.0, f64::max);
     if response_residual.is_nan() || response_residual >= RESPONSE_RESIDUAL_MAX {
         return Err(ScanError::Model(format!(
             "the converged line shape reproduces the observed cross-sections only to \

@@ -4,7 +4,7 @@
 
 use super::linalg::Matrix;
 use super::shape::ShapeModel;
-use crate::isr::{Cuts, Isr, Radiated, Scheme, Smeared, visit_spread_nodes};
+use crate::isr::{Cuts, Isr, Order, Radiated, Scheme, Smeared, visit_spread_nodes};
 use crate::process::CrossSection;
 use rayon::prelude::*;
 
@@ -68,9 +68,15 @@ impl ForwardChain {
     /// then σ_obs[L_y](sᵢ) = (K·y)ᵢ for every y. None where a point needs the adaptive
     /// paths (a peak narrower than the spread, more breaks than the fixed ISR path takes).
     ///
-    /// The nodes' error estimates are not taken here: the scan checks the result against
-    /// [`Self::observed_nb`] on its converged line shape.
-    pub fn response_fast(&self, model: &ShapeModel, spread_mev: &[f64]) -> Option<Matrix> {
+    /// `order` picks the rules: the fast paths' error estimate for a line shape is the
+    /// difference of the two matrices applied to it (the scan takes it for its converged
+    /// shape).
+    pub fn response_fast(
+        &self,
+        model: &ShapeModel,
+        spread_mev: &[f64],
+        order: Order,
+    ) -> Option<Matrix> {
         let (features, threshold) = (model.features(), model.threshold_s_gev2());
         let rows: Option<Vec<Vec<f64>>> = model
             .sqrt_s_gev()
@@ -79,20 +85,22 @@ impl ForwardChain {
             .map(|(&e, &w)| {
                 let mut sum = model.row_sum();
                 let mut fixed = true;
-                let spread_fixed = visit_spread_nodes(features, threshold, e, w, |e_node, g| {
-                    let s = e_node * e_node;
-                    match self.isr {
-                        None => model.add(&mut sum, s, g),
-                        // A cut that removes every event (Err) contributes 0, as in
-                        // `Radiated::sigma_nb`.
-                        Some(isr) => {
-                            let visited = isr.visit_nodes(features, threshold, s, |sp, wp| {
-                                model.add(&mut sum, sp, g * wp)
-                            });
-                            fixed &= visited.unwrap_or(true);
+                let spread_fixed =
+                    visit_spread_nodes(features, threshold, e, w, order, |e_node, g| {
+                        let s = e_node * e_node;
+                        match self.isr {
+                            None => model.add(&mut sum, s, g),
+                            // A cut that removes every event (Err) contributes 0, as in
+                            // `Radiated::sigma_nb`.
+                            Some(isr) => {
+                                let visited =
+                                    isr.visit_nodes(features, threshold, s, order, |sp, wp| {
+                                        model.add(&mut sum, sp, g * wp)
+                                    });
+                                fixed &= visited.unwrap_or(true);
+                            }
                         }
-                    }
-                });
+                    });
                 (spread_fixed && fixed).then(|| model.row(&sum))
             })
             .collect();

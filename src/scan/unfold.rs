@@ -12,6 +12,7 @@ use super::ScanError;
 use super::forward::ForwardChain;
 use super::linalg::Matrix;
 use super::shape::ShapeModel;
+use crate::isr::Order;
 use rayon::prelude::*;
 
 /// When to stop iterating.
@@ -73,7 +74,7 @@ pub fn unfold(
     settings: UnfoldSettings,
 ) -> Result<Unfolded, ScanError> {
     // The chain is linear in y: with the response matrix every iteration is a product.
-    let response = chain.response_fast(model, spread_mev);
+    let response = chain.response_fast(model, spread_mev, Order::Low);
     let forward = |y: &[f64]| match &response {
         Some(k) => k.apply(y),
         None => forward(chain, model, spread_mev, y),
@@ -123,7 +124,7 @@ pub fn unfold(
 /// σ at point j (dimensionless). In one pass over the quadrature nodes where the fast paths
 /// apply, else column by column through the chain.
 pub fn response(chain: &ForwardChain, model: &ShapeModel, spread_mev: &[f64]) -> Matrix {
-    if let Some(k) = chain.response_fast(model, spread_mev) {
+    if let Some(k) = chain.response_fast(model, spread_mev, Order::Low) {
         return k;
     }
     let n = model.sqrt_s_gev().len();
