@@ -378,8 +378,9 @@ fn provenance(plan: &LumiPlan, vp: Option<&dyn Polarisation>) -> Vec<String> {
             }
         ),
         match vp {
+            // `describe` names the model itself ("vacuum polarisation: …").
             Some(v) => format!(
-                "vacuum polarisation: {} (t channel spacelike, s channel complex, dressed amplitudes)",
+                "{} (t channel spacelike, s channel complex, dressed amplitudes)",
                 v.describe()
             ),
             None => "vacuum polarisation: none".into(),
