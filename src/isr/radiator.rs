@@ -75,6 +75,12 @@ impl Scheme {
     pub fn from_key(key: &str) -> Option<Scheme> {
         Scheme::ALL.into_iter().find(|s| s.key() == key)
     }
+
+    /// The keys of all schemes, comma-separated (for "allowed: …" in error messages).
+    pub fn allowed_keys() -> String {
+        let keys: Vec<&str> = Scheme::ALL.iter().map(|s| s.key()).collect();
+        keys.join(", ")
+    }
 }
 
 /// The radiator of one scheme at one s: its β, soft coefficient and hard part.

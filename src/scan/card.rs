@@ -514,12 +514,11 @@ pub fn radiator_by_name(key: &str, name: &str) -> Result<Option<Scheme>, ScanErr
         return Ok(None);
     }
     Scheme::from_key(name).map(Some).ok_or_else(|| {
-        let keys: Vec<&str> = Scheme::ALL.iter().map(|s| s.key()).collect();
         card_err(
             key,
             format!(
                 "unknown radiator '{name}'; allowed: {}, none",
-                keys.join(", ")
+                Scheme::allowed_keys()
             ),
         )
     })

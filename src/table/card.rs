@@ -239,10 +239,12 @@ fn process(name: &str, r_ratio: Option<f64>) -> Result<TableProcess, TablePlanEr
 
 fn scheme(key: &str, name: &str) -> Result<Scheme, TablePlanError> {
     Scheme::from_key(name).ok_or_else(|| {
-        let keys: Vec<&str> = Scheme::ALL.iter().map(|s| s.key()).collect();
         err(
             key,
-            format!("unknown radiator '{name}'; allowed: {}", keys.join(", ")),
+            format!(
+                "unknown radiator '{name}'; allowed: {}",
+                Scheme::allowed_keys()
+            ),
         )
     })
 }
