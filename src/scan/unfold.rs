@@ -7,6 +7,10 @@
 //! response matrix Kᵢⱼ = σ_obs[L(eⱼ)](sᵢ); [`response`] builds K so that statistical
 //! shifts propagate exactly (δy = K⁻¹ δσ_obs: a point's correction depends on the data
 //! below it, which correlates the unfolded points).
+//!
+//! Where the chain's fast paths apply, K is built first, in one pass over their quadrature
+//! nodes ([`ForwardChain::response_fast`]), and every iteration is the product K·yᵏ; else
+//! each iteration runs the chain on L.
 
 use super::ScanError;
 use super::forward::ForwardChain;
