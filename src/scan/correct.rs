@@ -285,7 +285,7 @@ pub struct CorrectedScan {
     pub born: Budget,
     pub iterations: usize,
     pub last_change: f64,
-    /// max |σ_obs[L](sᵢ) − σ_obs,ᵢ|/σ_obs,ᵢ with the converged line shape L pushed through
+    /// max |σ_obs\[L\](sᵢ) − σ_obs,ᵢ|/σ_obs,ᵢ with the converged line shape L pushed through
     /// the chain by the higher rules of the fast paths the response matrix was built with
     /// (their error estimate for L), or through the chain itself (its adaptive error
     /// control) where it was iterated directly: checks the response matrix the iteration

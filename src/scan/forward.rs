@@ -62,10 +62,10 @@ impl ForwardChain {
         }
     }
 
-    /// The response matrix Kᵢⱼ = σ_obs[L(eⱼ)](sᵢ) of the line shapes of `model` in one pass
+    /// The response matrix Kᵢⱼ = σ_obs\[L(eⱼ)\](sᵢ) of the line shapes of `model` in one pass
     /// over the quadrature nodes of each point (the fast paths of the spread and of the ISR
     /// convolution, which depend on the line shapes' features only, not on their values):
-    /// then σ_obs[L_y](sᵢ) = (K·y)ᵢ for every y. None where a point needs the adaptive
+    /// then σ_obs\[L_y\](sᵢ) = (K·y)ᵢ for every y. None where a point needs the adaptive
     /// paths (a peak narrower than the spread, more breaks than the fixed ISR path takes).
     ///
     /// `order` picks the rules: the fast paths' error estimate for a line shape is the

@@ -1,10 +1,10 @@
 //! The iterative unfolding of observed cross-sections to dressed ones (physics notes §6).
 //!
 //! Start from y⁰ = σ_obs; at each step build the line shape L through yᵏ
-//! ([`ShapeModel::through`]), compute 1 + δᵢ = σ_obs[L](sᵢ)/L(sᵢ) through the forward chain,
+//! ([`ShapeModel::through`]), compute 1 + δᵢ = σ_obs\[L\](sᵢ)/L(sᵢ) through the forward chain,
 //! set yᵏ⁺¹ᵢ = σ_obs,ᵢ/(1 + δᵢ), and stop when the largest relative change is below the
 //! tolerance. Because L is linear in y, the converged y solves K·y = σ_obs with the
-//! response matrix Kᵢⱼ = σ_obs[L(eⱼ)](sᵢ); [`response`] builds K so that statistical
+//! response matrix Kᵢⱼ = σ_obs\[L(eⱼ)\](sᵢ); [`response`] builds K so that statistical
 //! shifts propagate exactly (δy = K⁻¹ δσ_obs: a point's correction depends on the data
 //! below it, which correlates the unfolded points).
 //!
@@ -124,7 +124,7 @@ pub fn unfold(
     })
 }
 
-/// The response matrix Kᵢⱼ = σ_obs[L(eⱼ)](sᵢ): the observed σ at point i per nb of dressed
+/// The response matrix Kᵢⱼ = σ_obs\[L(eⱼ)\](sᵢ): the observed σ at point i per nb of dressed
 /// σ at point j (dimensionless). In one pass over the quadrature nodes where the fast paths
 /// apply, else column by column through the chain.
 pub fn response(chain: &ForwardChain, model: &ShapeModel, spread_mev: &[f64]) -> Matrix {

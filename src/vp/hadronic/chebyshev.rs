@@ -111,7 +111,7 @@ impl<const K: usize, const M: usize> Chebyshev<K, M> {
         self.coeffs.len()
     }
 
-    /// The pieces' ends: piece i is [edges[i], edges[i + 1]].
+    /// The pieces' ends: piece i is \[edges\[i\], edges\[i + 1\]\].
     pub fn edges(&self) -> &[f64] {
         &self.edges
     }
