@@ -4,7 +4,7 @@
 //! - [`data`]: the scan CSV (one row per energy point).
 //! - [`forward`]: the chain dressed → radiated → smeared (the ISR layer's links).
 //! - [`shape`]: the line-shape model through the current points (template + spline).
-//! - [`unfold`]: the iteration and the response matrix.
+//! - [`mod@unfold`]: the iteration and the response matrix.
 //! - [`generate`]: invented scans with seeded Poisson noise (tests, demos).
 //! - [`fit`]: the forward fit of a narrow resonance (mass, Γ_ee·B, continuum) through the
 //!   chain, for resonances narrower than the energy spread.
