@@ -33,8 +33,12 @@ use std::sync::OnceLock;
 pub const FIXED_ORDER: usize = 32;
 /// Points of the low fixed rule, whose difference from the high one is the error estimate.
 pub const CHECK_ORDER: usize = 24;
-/// The most breaks (features inside the range) the fixed path takes; more go adaptive.
+/// The most breaks (features inside the range) the fixed path of [`Isr::observe`] takes;
+/// more go adaptive. (The breaks live on the stack: a larger array costs every point.)
 const MAX_BREAKS: usize = 40;
+/// The same for [`Isr::visit_nodes`], whose callers (a scan's response matrix: a knot per
+/// point) have more and pay once per row.
+const MAX_VISIT_BREAKS: usize = 160;
 /// Longest peak panel in ξ (v = v_R ± γ sinh ξ). The Breit–Wigner's poles ±iπ/2 sit over
 /// the panel's end ξ = 0: on [0, 12] their Bernstein ellipse has ρ ≈ 1.69, so the 24-point
 /// rule's error is ~ρ⁻⁴⁸ ≈ 1e-11 of the peak's weight (the 32-point one's ~1e-15). A
@@ -290,18 +294,18 @@ fn ln_one_minus(x: f64) -> f64 {
 }
 
 /// What [`Isr::setup`] finds at one s (no event passes where x_max ≤ 0).
-struct Setup {
+struct Setup<const N: usize> {
     kernel: Kernel,
     /// The cut's x_max, and the upper end actually integrated.
     x_max: f64,
     x_int: f64,
     /// The fixed path's breaks; None when it does not apply.
-    panels: Option<Panels>,
+    panels: Option<Panels<N>>,
 }
 
 /// The sorted breaks strictly inside (0, x_max) and the `last` one at x_max.
-struct Panels {
-    breaks: [Break; MAX_BREAKS],
+struct Panels<const N: usize> {
+    breaks: [Break; N],
     n: usize,
     /// The head's limit in x set by peaks at or above √s ([`NEAR_ZERO_WIDTHS`]), and
     /// whether it must apply (a peak within the head's reach that is not a break).
@@ -309,7 +313,7 @@ struct Panels {
     last: Break,
 }
 
-impl Panels {
+impl<const N: usize> Panels<N> {
     /// The panels in order (the head in t = x^β first), handed to `emit`.
     fn for_each(&self, kernel: &Kernel, mut emit: impl FnMut(Panel)) {
         let breaks = &self.breaks[..self.n];
@@ -437,7 +441,8 @@ impl Isr {
             evaluations: 0,
             status: Status::Converged,
         };
-        let setup = self.setup(sigma.features(), sigma.threshold_s_gev2(), s_gev2)?;
+        let setup: Setup<MAX_BREAKS> =
+            self.setup(sigma.features(), sigma.threshold_s_gev2(), s_gev2)?;
         if setup.x_max <= 0.0 {
             return Ok(zero(setup.x_max));
         }
@@ -478,7 +483,7 @@ impl Isr {
         order: Order,
         mut visit: impl FnMut(f64, f64),
     ) -> Result<bool, IsrError> {
-        let setup = self.setup(features, threshold_s_gev2, s_gev2)?;
+        let setup: Setup<MAX_VISIT_BREAKS> = self.setup(features, threshold_s_gev2, s_gev2)?;
         if setup.x_max <= 0.0 {
             return Ok(true);
         }
@@ -499,7 +504,12 @@ impl Isr {
     }
 
     /// The range, kernel and (when the fixed path applies) breaks at s.
-    fn setup(&self, features: &[Feature], s_th: f64, s_gev2: f64) -> Result<Setup, IsrError> {
+    fn setup<const N: usize>(
+        &self,
+        features: &[Feature],
+        s_th: f64,
+        s_gev2: f64,
+    ) -> Result<Setup<N>, IsrError> {
         if !(s_gev2 > 0.0 && s_gev2.is_finite()) {
             return Err(IsrError::BadEnergy { s_gev2 });
         }
@@ -522,7 +532,7 @@ impl Isr {
         let mut breaks = [Break {
             x: 0.0,
             end: End::Plain,
-        }; MAX_BREAKS];
+        }; N];
         let panels = collect_breaks(features, s_gev2, x_int, &mut breaks).map(|found| Panels {
             breaks,
             n: found.n,
@@ -548,7 +558,7 @@ impl Isr {
     fn fixed<C: CrossSection + ?Sized>(
         &self,
         f: &Integrand<C>,
-        panels: &Panels,
+        panels: &Panels<MAX_BREAKS>,
     ) -> Option<Observed> {
         let r = rules();
         let (mut value, mut error, mut n) = (0.0, 0.0, 0);
@@ -650,11 +660,11 @@ struct Found {
 /// x_max (as the end it makes there), and a peak at √s (see [`Panels::at_sqrt_s`]); None
 /// if there are too many for the fixed path, or two peaks at or above √s compete for the
 /// first log panel.
-fn collect_breaks(
+fn collect_breaks<const N: usize>(
     features: &[Feature],
     s: f64,
     x_max: f64,
-    out: &mut [Break; MAX_BREAKS],
+    out: &mut [Break; N],
 ) -> Option<Found> {
     let mut n = 0;
     let mut at_sqrt_s: Option<(f64, bool)> = None;
@@ -711,7 +721,7 @@ fn collect_breaks(
             }
             continue;
         }
-        if n == MAX_BREAKS {
+        if n == N {
             return None;
         }
         out[n] = Break { x, end };
