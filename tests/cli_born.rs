@@ -1,26 +1,11 @@
 //! `radnorm born` end to end: output shapes, units, and errors on bad input.
 
-use assert_cmd::Command;
+mod common;
+use common::{radnorm, radnorm_json};
 use serde_json::Value;
 
-fn radnorm() -> Command {
-    let mut c = Command::cargo_bin("radnorm").unwrap();
-    c.env_remove("RUST_BACKTRACE");
-    c
-}
-
 fn json(args: &[&str]) -> Value {
-    let out = radnorm()
-        .args(args)
-        .args(["--format", "json"])
-        .output()
-        .unwrap();
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    serde_json::from_slice(&out.stdout).unwrap()
+    radnorm_json(args)
 }
 
 #[test]

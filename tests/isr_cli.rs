@@ -1,29 +1,14 @@
 //! `radnorm isr` end to end: the output contract, the flags, and bad input.
 
 mod common;
-use assert_cmd::Command;
-use common::assert_rel;
+use common::{assert_rel, radnorm, radnorm_json};
 use serde_json::Value;
 
-fn radnorm() -> Command {
-    let mut c = Command::cargo_bin("radnorm").unwrap();
-    c.env_remove("RUST_BACKTRACE");
-    c
-}
-
+/// `radnorm isr ARGS --format json`, parsed.
 fn json(args: &[&str]) -> Value {
-    let out = radnorm()
-        .arg("isr")
-        .args(args)
-        .args(["--format", "json"])
-        .output()
-        .unwrap();
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    serde_json::from_slice(&out.stdout).unwrap()
+    let mut all = vec!["isr"];
+    all.extend_from_slice(args);
+    radnorm_json(&all)
 }
 
 fn fails(args: &[&str], needle: &str) {

@@ -1,7 +1,8 @@
 //! `radnorm lumi` end to end: card + counts → JSON rows and summary; bad input → a clear
 //! error naming file, line and field, and no output file.
 
-use assert_cmd::Command;
+mod common;
+use common::radnorm;
 use serde_json::Value;
 use std::fs;
 
@@ -25,12 +26,6 @@ r1,10.58,120000,1200,0.92
 r2,10.58,80000,900,0.92
 r3,10.0,50000,400,0.90
 ";
-
-fn radnorm() -> Command {
-    let mut c = Command::cargo_bin("radnorm").unwrap();
-    c.env_remove("RUST_BACKTRACE");
-    c
-}
 
 #[test]
 fn luminosity_table_follows_the_contract() {

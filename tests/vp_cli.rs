@@ -4,30 +4,13 @@
 mod common;
 use common::*;
 
-use assert_cmd::Command;
 use radnorm::vp::leptonic::pi_leptonic;
 use radnorm::vp::standard_hadronic;
 use serde_json::Value;
 use std::path::Path;
 
-fn radnorm() -> Command {
-    let mut c = Command::cargo_bin("radnorm").expect("binary");
-    c.env_remove("RUST_BACKTRACE");
-    c
-}
-
 fn json(args: &[&str]) -> Value {
-    let out = radnorm()
-        .args(args)
-        .args(["--format", "json"])
-        .output()
-        .unwrap();
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    serde_json::from_slice(&out.stdout).unwrap()
+    radnorm_json(args)
 }
 
 fn failure(args: &[&str]) -> String {

@@ -85,3 +85,25 @@ pub fn parse_key_values(text: &str) -> std::collections::HashMap<String, f64> {
         })
         .collect()
 }
+
+/// The built binary, with RUST_BACKTRACE unset so that error messages read as users see them.
+pub fn radnorm() -> assert_cmd::Command {
+    let mut c = assert_cmd::Command::cargo_bin("radnorm").expect("the radnorm binary");
+    c.env_remove("RUST_BACKTRACE");
+    c
+}
+
+/// `radnorm ARGS --format json`: asserted to succeed, its output parsed.
+pub fn radnorm_json(args: &[&str]) -> serde_json::Value {
+    let out = radnorm()
+        .args(args)
+        .args(["--format", "json"])
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "radnorm {args:?}: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    serde_json::from_slice(&out.stdout).unwrap()
+}
