@@ -48,6 +48,12 @@ fn isr_vp(c: &mut Criterion) {
             },
         );
     }
+    // No structure of σ_d in s′ ∈ [s/2, s] (√s′ from 4.9 to 7 GeV lies between the
+    // open-charm edges and the Υ): the smooth case the targets' floor refers to.
+    c.bench_function(
+        "isr mumu kf2 x_max=0.5 sqrt_s=7, full VP, nothing narrow in range (target <= 3 us)",
+        |b| b.iter(|| half.observe(&dressed, black_box(49.0)).unwrap().sigma_nb),
+    );
     // The floor under every VP point: one evaluation of the dressed σ_d (a fixed panel
     // takes 32 + 24 of them).
     c.bench_function("dressed mumu sigma_d, full VP, one evaluation", |b| {
