@@ -178,7 +178,32 @@ impl FermionPair {
 
 impl CrossSection for FermionPair {
     fn sigma_nb(&self, s_gev2: f64) -> f64 {
-        self.sigma_in_cos_nb(s_gev2, self.range.lo(), self.range.hi())
+        if !self.range.is_full() {
+            return self.sigma_in_cos_nb(s_gev2, self.range.lo(), self.range.hi());
+        }
+        // The full solid angle in closed form, A(1) − A(−1) of `antiderivative` (the
+        // asymmetric term integrates to 0): the ISR convolution's inner loop. Photon only:
+        // c_v = (Q_e Q_f)², c_aa = 0.
+        if self.z.is_none() && !self.coulomb {
+            // 4m²/s by its own division: 1 − 4m²·(1/s) would lose digits near threshold.
+            let b2 = 1.0 - 4.0 * self.mass_gev * self.mass_gev / s_gev2;
+            if b2.is_nan() || b2 <= 0.0 {
+                return 0.0;
+            }
+            let qq = Q_E * self.charge;
+            let constant = PI * ALPHA * ALPHA * self.colours * GEV2_TO_NB * (2.0 / 3.0) * qq * qq;
+            return constant / s_gev2 * b2.sqrt() * (3.0 - b2);
+        }
+        match self.coefficients(s_gev2) {
+            Some(k) => {
+                let b2 = k.beta * k.beta;
+                self.prefactor_nb(s_gev2, k.beta)
+                    * k.beta
+                    * (4.0 / 3.0)
+                    * (k.c_v * (3.0 - b2) + 2.0 * k.c_aa * b2)
+            }
+            None => 0.0,
+        }
     }
 
     fn threshold_s_gev2(&self) -> f64 {
