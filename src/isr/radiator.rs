@@ -119,11 +119,13 @@ impl Radiator {
     }
 
     /// β = (2α/π)(ln(s/mₑ²) − 1), the exponent of the soft density.
+    #[inline]
     pub fn beta(&self) -> f64 {
         self.beta
     }
 
     /// C in F = C·β x^(β−1) + H(x) (for Kuraev–Fadin, δ_VS).
+    #[inline]
     pub fn soft_coefficient(&self) -> f64 {
         self.soft
     }
