@@ -32,7 +32,7 @@ use super::ScanError;
 use super::data::{LuminosityInput, ScanPoint};
 use super::forward::ForwardChain;
 use super::shape::{ShapeModel, TemplateResonance};
-use super::unfold::{UnfoldSettings, response, unfold};
+use super::unfold::{UnfoldSettings, unfold};
 use crate::budget::{Budget, Correlation, Kind, symmetric_shift};
 use crate::isr::{Order, Scheme};
 use crate::lumi::{Monitor, Prediction};
@@ -286,10 +286,9 @@ pub struct CorrectedScan {
     pub iterations: usize,
     pub last_change: f64,
     /// max |σ_obs\[L\](sᵢ) − σ_obs,ᵢ|/σ_obs,ᵢ with the converged line shape L pushed through
-    /// the chain by the higher rules of the fast paths the response matrix was built with
-    /// (their error estimate for L), or through the chain itself (its adaptive error
-    /// control) where it was iterated directly: checks the response matrix the iteration
-    /// and the covariance rely on.
+    /// the chain by the response matrix of the higher rules (the fast paths' error estimate
+    /// for L; rows outside the fast paths come from the chain itself either way): checks the
+    /// response matrix the iteration and the covariance rely on.
     pub response_residual: f64,
 }
 
@@ -345,32 +344,13 @@ pub fn correct_scan(plan: &ScanPlan, data: &[ScanPoint]) -> Result<CorrectedScan
     let (nominal, model) = unfold_with(&plan.chain, &energies, &spread)?;
     let y = &nominal.sigma_dressed_nb;
 
-    // The response matrix, its inverse, and the check of the converged line shape: with
-    // the fast paths' higher rules (their error estimate, for this shape), or where the
-    // iteration ran the chain itself, through the chain (its own error control).
-    let (k, check) = match &nominal.response {
-        Some(k) => (
-            k.clone(),
-            plan.chain
-                .response_fast(&model, &spread, Order::High)
-                .map(|high| high.apply(y)),
-        ),
-        None => (response(&plan.chain, &model, &spread), None),
-    };
+    // The response matrix, its inverse, and the check of the converged line shape with the
+    // fast paths' higher rules (their error estimate, for this shape).
+    let k = &nominal.response;
     let kinv = k
         .inverse()
         .ok_or_else(|| ScanError::Model("the response matrix of the scan is singular".into()))?;
-    let through_chain: Vec<f64> = match check {
-        Some(values) => values,
-        None => {
-            let shape = model.through(y);
-            energies
-                .par_iter()
-                .zip(&spread)
-                .map(|(&e, &w)| plan.chain.observed_nb(&shape, e, w))
-                .collect()
-        }
-    };
+    let through_chain = plan.chain.response(&model, &spread, Order::High).apply(y);
     let response_residual = through_chain
         .iter()
         .zip(&obs)
@@ -379,7 +359,7 @@ pub fn correct_scan(plan: &ScanPlan, data: &[ScanPoint]) -> Result<CorrectedScan
     if response_residual.is_nan() || response_residual >= RESPONSE_RESIDUAL_MAX {
         return Err(ScanError::Model(format!(
             "the converged line shape reproduces the observed cross-sections only to \
-             {response_residual:.2e} relative through the chain (allowed below \
+             {response_residual:.2e} relative with the higher-order rules (allowed below \
              {RESPONSE_RESIDUAL_MAX:e}): the response matrix's quadrature is not trustworthy here"
         )));
     }

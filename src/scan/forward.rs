@@ -62,49 +62,26 @@ impl ForwardChain {
         }
     }
 
-    /// The response matrix Kᵢⱼ = σ_obs\[L(eⱼ)\](sᵢ) of the line shapes of `model` in one pass
-    /// over the quadrature nodes of each point (the fast paths of the spread and of the ISR
-    /// convolution, which depend on the line shapes' features only, not on their values):
-    /// then σ_obs\[L_y\](sᵢ) = (K·y)ᵢ for every y. None where a point needs the adaptive
-    /// paths (a peak narrower than the spread, more breaks than the fixed ISR path takes).
+    /// The response matrix Kᵢⱼ = σ_obs\[L(eⱼ)\](sᵢ) of the line shapes of `model`: then
+    /// σ_obs\[L_y\](sᵢ) = (K·y)ᵢ for every y. A row is one pass over the quadrature nodes of
+    /// the fast paths of the spread and of the ISR convolution (they depend on the line
+    /// shapes' features only, not on their values); where a point needs the adaptive paths
+    /// (a peak narrower than the spread, more breaks than the fixed ISR path takes) its row is
+    /// the chain applied to each L(eⱼ).
     ///
-    /// `order` picks the rules: the fast paths' error estimate for a line shape is the
+    /// `order` picks the fast paths' rules: their error estimate for a line shape is the
     /// difference of the two matrices applied to it (the scan takes it for its converged
     /// shape).
-    pub fn response_fast(
-        &self,
-        model: &ShapeModel,
-        spread_mev: &[f64],
-        order: Order,
-    ) -> Option<Matrix> {
-        let (features, threshold) = (model.features(), model.threshold_s_gev2());
-        let rows: Option<Vec<Vec<f64>>> = model
+    pub fn response(&self, model: &ShapeModel, spread_mev: &[f64], order: Order) -> Matrix {
+        let rows: Vec<Vec<f64>> = model
             .sqrt_s_gev()
             .par_iter()
             .zip(spread_mev)
             .map(|(&e, &w)| {
-                let mut sum = model.row_sum();
-                let mut fixed = true;
-                let spread_fixed =
-                    visit_spread_nodes(features, threshold, e, w, order, |e_node, g| {
-                        let s = e_node * e_node;
-                        match self.isr {
-                            None => model.add(&mut sum, s, g),
-                            // A cut that removes every event (Err) contributes 0, as in
-                            // `Radiated::sigma_nb`.
-                            Some(isr) => {
-                                let visited =
-                                    isr.visit_nodes(features, threshold, s, order, |sp, wp| {
-                                        model.add(&mut sum, sp, g * wp)
-                                    });
-                                fixed &= visited.unwrap_or(true);
-                            }
-                        }
-                    });
-                (spread_fixed && fixed).then(|| model.row(&sum))
+                self.fast_row(model, e, w, order)
+                    .unwrap_or_else(|| self.row_through_chain(model, e, w))
             })
             .collect();
-        let rows = rows?;
         let n = rows.len();
         let mut k = Matrix::zeros(n);
         for (i, row) in rows.iter().enumerate() {
@@ -112,7 +89,41 @@ impl ForwardChain {
                 k.set(i, j, *v);
             }
         }
-        Some(k)
+        k
+    }
+
+    /// Row i of the response from the fast paths' nodes; None where one does not apply.
+    fn fast_row(&self, model: &ShapeModel, e: f64, w: f64, order: Order) -> Option<Vec<f64>> {
+        let (features, threshold) = (model.features(), model.threshold_s_gev2());
+        let mut sum = model.row_sum();
+        let mut fixed = true;
+        let spread_fixed = visit_spread_nodes(features, threshold, e, w, order, |e_node, g| {
+            let s = e_node * e_node;
+            match self.isr {
+                None => model.add(&mut sum, s, g),
+                // A cut that removes every event (Err) contributes 0, as in
+                // `Radiated::sigma_nb`.
+                Some(isr) => {
+                    let visited = isr.visit_nodes(features, threshold, s, order, |sp, wp| {
+                        model.add(&mut sum, sp, g * wp)
+                    });
+                    fixed &= visited.unwrap_or(true);
+                }
+            }
+        });
+        (spread_fixed && fixed).then(|| model.row(&sum))
+    }
+
+    /// Row i of the response by the chain itself, one line shape L(eⱼ) at a time.
+    fn row_through_chain(&self, model: &ShapeModel, e: f64, w: f64) -> Vec<f64> {
+        let n = model.sqrt_s_gev().len();
+        (0..n)
+            .map(|j| {
+                let mut unit = vec![0.0; n];
+                unit[j] = 1.0;
+                self.observed_nb(&model.through(&unit), e, w)
+            })
+            .collect()
     }
 }
 

@@ -31,4 +31,4 @@ pub use fit::{FitPlan, ForwardFit, fit_scan};
 pub use forward::ForwardChain;
 pub use linalg::Matrix;
 pub use shape::{LineShape, ShapeModel, TemplateResonance};
-pub use unfold::{UnfoldSettings, Unfolded, response, unfold};
+pub use unfold::{UnfoldSettings, Unfolded, unfold};

@@ -4,20 +4,18 @@
 //! ([`ShapeModel::through`]), compute 1 + δᵢ = σ_obs\[L\](sᵢ)/L(sᵢ) through the forward chain,
 //! set yᵏ⁺¹ᵢ = σ_obs,ᵢ/(1 + δᵢ), and stop when the largest relative change is below the
 //! tolerance. Because L is linear in y, the converged y solves K·y = σ_obs with the
-//! response matrix Kᵢⱼ = σ_obs\[L(eⱼ)\](sᵢ); [`response`] builds K so that statistical
-//! shifts propagate exactly (δy = K⁻¹ δσ_obs: a point's correction depends on the data
+//! response matrix Kᵢⱼ = σ_obs\[L(eⱼ)\](sᵢ), which also propagates statistical
+//! shifts exactly (δy = K⁻¹ δσ_obs: a point's correction depends on the data
 //! below it, which correlates the unfolded points).
 //!
-//! Where the chain's fast paths apply, K is built first, in one pass over their quadrature
-//! nodes ([`ForwardChain::response_fast`]), and every iteration is the product K·yᵏ; else
-//! each iteration runs the chain on L.
+//! K is built first ([`ForwardChain::response`]: a pass over the quadrature nodes of each
+//! point), and every iteration is the product K·yᵏ.
 
 use super::ScanError;
 use super::forward::ForwardChain;
 use super::linalg::Matrix;
 use super::shape::ShapeModel;
 use crate::isr::Order;
-use rayon::prelude::*;
 
 /// When to stop iterating.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -48,20 +46,8 @@ pub struct Unfolded {
     pub iterations: usize,
     /// The largest relative change in the last iteration.
     pub last_change: f64,
-    /// The response matrix the iteration used ([`ForwardChain::response_fast`]); None when
-    /// each iteration ran the chain itself.
-    pub response: Option<Matrix>,
-}
-
-/// The chain applied to the line shape through `y`, at every scan point (in parallel).
-fn forward(chain: &ForwardChain, model: &ShapeModel, spread_mev: &[f64], y: &[f64]) -> Vec<f64> {
-    let shape = model.through(y);
-    model
-        .sqrt_s_gev()
-        .par_iter()
-        .zip(spread_mev)
-        .map(|(&e, &w)| chain.observed_nb(&shape, e, w))
-        .collect()
+    /// The response matrix the iteration used ([`ForwardChain::response`], lower rules).
+    pub response: Matrix,
 }
 
 /// Unfold `sigma_obs_nb` (one value per point of `model`, all > 0) with `chain`.
@@ -78,11 +64,8 @@ pub fn unfold(
     settings: UnfoldSettings,
 ) -> Result<Unfolded, ScanError> {
     // The chain is linear in y: with the response matrix every iteration is a product.
-    let response = chain.response_fast(model, spread_mev, Order::Low);
-    let forward = |y: &[f64]| match &response {
-        Some(k) => k.apply(y),
-        None => forward(chain, model, spread_mev, y),
-    };
+    let response = chain.response(model, spread_mev, Order::Low);
+    let forward = |y: &[f64]| response.apply(y);
     let mut y = sigma_obs_nb.to_vec();
     let mut last_change = f64::INFINITY;
     for iteration in 1..=settings.max_iterations {
@@ -122,35 +105,4 @@ pub fn unfold(
         max_change: last_change,
         tolerance: settings.tolerance,
     })
-}
-
-/// The response matrix Kᵢⱼ = σ_obs\[L(eⱼ)\](sᵢ): the observed σ at point i per nb of dressed
-/// σ at point j (dimensionless). In one pass over the quadrature nodes where the fast paths
-/// apply, else column by column through the chain.
-pub fn response(chain: &ForwardChain, model: &ShapeModel, spread_mev: &[f64]) -> Matrix {
-    if let Some(k) = chain.response_fast(model, spread_mev, Order::Low) {
-        return k;
-    }
-    let n = model.sqrt_s_gev().len();
-    let columns: Vec<Vec<f64>> = (0..n)
-        .into_par_iter()
-        .map(|j| {
-            let mut unit = vec![0.0; n];
-            unit[j] = 1.0;
-            let shape = model.through(&unit);
-            model
-                .sqrt_s_gev()
-                .iter()
-                .zip(spread_mev)
-                .map(|(&e, &w)| chain.observed_nb(&shape, e, w))
-                .collect()
-        })
-        .collect();
-    let mut k = Matrix::zeros(n);
-    for (j, col) in columns.iter().enumerate() {
-        for (i, v) in col.iter().enumerate() {
-            k.set(i, j, *v);
-        }
-    }
-    k
 }
