@@ -71,15 +71,9 @@ fn dressed_peaks<C: CrossSection>(sigma: &C) -> Vec<(f64, f64)> {
         .collect()
 }
 
-/// σ_obs = C∫σ_d(s(1 − t^{1/β})) dt + ∫H(x)σ_d(s(1 − x)) dx over [0, x_max], tanh–sinh on
-/// pieces split at the edges σ_d reports, at the R model's own peaks (ρ, ω, φ and the
-/// resonance masses) and at the dressed peaks found by search, each ± [`SPLITS`] widths.
-fn reference<C: CrossSection>(sigma: &C, s: f64, x_max: f64, peaks: &[(f64, f64)]) -> f64 {
-    let r = Radiator::new(Scheme::KuraevFadin2, s);
-    let beta = r.beta();
-    // The hadronic VP's own features are the R model's (M² of every resonance and the ρ).
-    let model_peaks = standard_hadronic()
-        .features()
+/// The peaks among `features`: (s, MΓ) in GeV².
+fn peaks_of(features: &[Feature]) -> Vec<(f64, f64)> {
+    features
         .iter()
         .filter_map(|f| match *f {
             Feature::Peak {
@@ -88,7 +82,17 @@ fn reference<C: CrossSection>(sigma: &C, s: f64, x_max: f64, peaks: &[(f64, f64)
             } => Some((s_gev2, m_gamma_gev2)),
             Feature::Edge { .. } => None,
         })
-        .collect::<Vec<_>>();
+        .collect()
+}
+
+/// σ_obs = C∫σ_d(s(1 − t^{1/β})) dt + ∫H(x)σ_d(s(1 − x)) dx over [0, x_max], tanh–sinh on
+/// pieces split at the edges σ_d reports, at the R model's own peaks (ρ, ω, φ and the
+/// resonance masses) and at the dressed peaks found by search, each ± [`SPLITS`] widths.
+fn reference<C: CrossSection>(sigma: &C, s: f64, x_max: f64, peaks: &[(f64, f64)]) -> f64 {
+    let r = Radiator::new(Scheme::KuraevFadin2, s);
+    let beta = r.beta();
+    // The hadronic VP's own features are the R model's (M² of every resonance and the ρ).
+    let model_peaks = peaks_of(standard_hadronic().features());
     let mut xs = vec![0.0, x_max];
     for f in sigma.features() {
         if let Feature::Edge { s_gev2 } = *f {
@@ -210,16 +214,8 @@ fn the_vp_marks_each_narrow_resonance_at_the_pole_of_the_dressed_factor() {
         };
         let hwhm =
             0.5 * (crossing(s_peak, s_peak + 20.0 * mg) - crossing(s_peak, s_peak - 20.0 * mg));
-        let (s_f, w_f) = vp
-            .features()
-            .iter()
-            .filter_map(|f| match *f {
-                Feature::Peak {
-                    s_gev2,
-                    m_gamma_gev2,
-                } => Some((s_gev2, m_gamma_gev2)),
-                Feature::Edge { .. } => None,
-            })
+        let (s_f, w_f) = peaks_of(vp.features())
+            .into_iter()
             .min_by(|a, b| (a.0 - s_peak).abs().total_cmp(&(b.0 - s_peak).abs()))
             .unwrap();
         let what = format!("resonance at M² = {m2} GeV²");

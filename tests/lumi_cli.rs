@@ -2,7 +2,7 @@
 //! error naming file, line and field, and no output file.
 
 mod common;
-use common::radnorm;
+use common::{radnorm, radnorm_json};
 use serde_json::Value;
 use std::fs;
 
@@ -33,24 +33,8 @@ fn luminosity_table_follows_the_contract() {
     let (card, data) = (dir.path().join("lumi.toml"), dir.path().join("counts.csv"));
     fs::write(&card, CARD).unwrap();
     fs::write(&data, COUNTS).unwrap();
-    let out = radnorm()
-        .args([
-            "lumi",
-            "--card",
-            card.to_str().unwrap(),
-            "--data",
-            data.to_str().unwrap(),
-            "--format",
-            "json",
-        ])
-        .output()
-        .unwrap();
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let (card, data) = (card.to_str().unwrap(), data.to_str().unwrap());
+    let v = radnorm_json(&["lumi", "--card", card, "--data", data]);
     let rows = v["rows"].as_array().unwrap();
     assert_eq!(rows.len(), 3);
     let mut total = 0.0;
@@ -90,50 +74,25 @@ fn luminosity_table_follows_the_contract() {
         .sqrt();
     assert!(cor > quad);
     // pb⁻¹ on request: keys renamed and values ÷1000.
-    let out = radnorm()
-        .args([
-            "lumi",
-            "--card",
-            card.to_str().unwrap(),
-            "--data",
-            data.to_str().unwrap(),
-            "--format",
-            "json",
-            "--units",
-            "pb",
-        ])
-        .output()
-        .unwrap();
-    let p: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let p = radnorm_json(&["lumi", "--card", card, "--data", data, "--units", "pb"]);
     let lp = p["rows"][0]["luminosity_pb_inv"].as_f64().unwrap();
     assert!((lp * 1e3 / rows[0]["luminosity_nb_inv"].as_f64().unwrap() - 1.0).abs() < 1e-12);
 }
 
 #[test]
 fn sigma_vis_point_with_flags_only() {
-    let out = radnorm()
-        .args([
-            "lumi",
-            "--process",
-            "gg",
-            "--sqrt-s",
-            "10",
-            "--theta-min-deg",
-            "40",
-            "--theta-max-deg",
-            "140",
-            "--born-only",
-            "--format",
-            "json",
-        ])
-        .output()
-        .unwrap();
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let v = radnorm_json(&[
+        "lumi",
+        "--process",
+        "gg",
+        "--sqrt-s",
+        "10",
+        "--theta-min-deg",
+        "40",
+        "--theta-max-deg",
+        "140",
+        "--born-only",
+    ]);
     // Born only: σ_vis equals its Born value, (2πα²/s)[ln((1+c)/(1−c)) − c] (physics notes §1).
     let c = 40f64.to_radians().cos();
     let alpha = 1.0 / 137.035_999_177;

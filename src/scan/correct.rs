@@ -350,7 +350,10 @@ pub fn correct_scan(plan: &ScanPlan, data: &[ScanPoint]) -> Result<CorrectedScan
     let kinv = k
         .inverse()
         .ok_or_else(|| ScanError::Model("the response matrix of the scan is singular".into()))?;
-    let through_chain = plan.chain.response(&model, &spread, Order::High).apply(y);
+    let through_chain = plan
+        .chain
+        .response_reusing(&model, &spread, Order::High, k)
+        .apply(y);
     let response_residual = through_chain
         .iter()
         .zip(&obs)

@@ -73,16 +73,43 @@ impl ForwardChain {
     /// difference of the two matrices applied to it (the scan takes it for its converged
     /// shape).
     pub fn response(&self, model: &ShapeModel, spread_mev: &[f64], order: Order) -> Matrix {
+        self.response_rows(model, spread_mev, order, None)
+    }
+
+    /// As [`Self::response`] with the other `order`, taking the rows outside the fast paths
+    /// from `known` (they do not depend on the order): the check of a converged line shape
+    /// does not run the chain twice.
+    pub fn response_reusing(
+        &self,
+        model: &ShapeModel,
+        spread_mev: &[f64],
+        order: Order,
+        known: &Matrix,
+    ) -> Matrix {
+        self.response_rows(model, spread_mev, order, Some(known))
+    }
+
+    fn response_rows(
+        &self,
+        model: &ShapeModel,
+        spread_mev: &[f64],
+        order: Order,
+        known: Option<&Matrix>,
+    ) -> Matrix {
+        let n = model.sqrt_s_gev().len();
         let rows: Vec<Vec<f64>> = model
             .sqrt_s_gev()
             .par_iter()
             .zip(spread_mev)
-            .map(|(&e, &w)| {
+            .enumerate()
+            .map(|(i, (&e, &w))| {
                 self.fast_row(model, e, w, order)
-                    .unwrap_or_else(|| self.row_through_chain(model, e, w))
+                    .unwrap_or_else(|| match known {
+                        Some(k) => (0..n).map(|j| k.get(i, j)).collect(),
+                        None => self.row_through_chain(model, e, w),
+                    })
             })
             .collect();
-        let n = rows.len();
         let mut k = Matrix::zeros(n);
         for (i, row) in rows.iter().enumerate() {
             for (j, v) in row.iter().enumerate() {

@@ -43,6 +43,8 @@ pub struct ShapeModel {
     continuum: Arc<dyn CrossSection + Send>,
     resonances: Vec<TemplateResonance>,
     sqrt_s_gev: Vec<f64>,
+    /// The continuum's threshold (asked per quadrature node; a virtual call otherwise).
+    s_threshold: f64,
     /// θ = projection · y; rows are template functions.
     projection: Vec<Vec<f64>>,
     /// The residuals r = residual_map · y at the points (r = y − Φθ).
@@ -94,6 +96,7 @@ impl ShapeModel {
             continuum,
             resonances,
             sqrt_s_gev,
+            s_threshold: s_th,
             projection: Vec::new(),
             residual_map: Matrix::zeros(n),
             second_derivatives: Vec::new(),
@@ -184,7 +187,7 @@ impl ShapeModel {
     fn template(&self, s: f64) -> Vec<f64> {
         let mut v = Vec::with_capacity(1 + self.resonances.len());
         v.push(self.continuum.sigma_nb(s));
-        let above = s > self.continuum.threshold_s_gev2();
+        let above = s > self.s_threshold;
         v.extend(
             self.resonances
                 .iter()
@@ -252,7 +255,7 @@ impl ShapeModel {
 
     /// Add the node (s, w): the same pieces [`LineShape::sigma_nb`] evaluates, by weight.
     pub fn add(&self, sum: &mut RowSum, s: f64, w: f64) {
-        if s <= self.continuum.threshold_s_gev2() {
+        if s <= self.s_threshold {
             return;
         }
         let phi0 = self.continuum.sigma_nb(s);
@@ -316,7 +319,7 @@ impl ShapeModel {
 
     /// The threshold below which every line shape of the model vanishes.
     pub fn threshold_s_gev2(&self) -> f64 {
-        self.continuum.threshold_s_gev2()
+        self.s_threshold
     }
 
     /// The features every line shape of the model has (template edges and peaks, knots).
@@ -349,7 +352,7 @@ impl LineShape<'_> {
 impl CrossSection for LineShape<'_> {
     fn sigma_nb(&self, s: f64) -> f64 {
         let m = self.model;
-        if s <= m.continuum.threshold_s_gev2() {
+        if s <= m.s_threshold {
             return 0.0;
         }
         let phi0 = m.continuum.sigma_nb(s);
@@ -370,7 +373,7 @@ impl CrossSection for LineShape<'_> {
         v + resid
     }
     fn threshold_s_gev2(&self) -> f64 {
-        self.model.continuum.threshold_s_gev2()
+        self.model.s_threshold
     }
     fn features(&self) -> &[Feature] {
         &self.model.features
