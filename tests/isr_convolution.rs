@@ -5,7 +5,7 @@
 mod common;
 use common::{assert_rel, parse_key_values, python_reference};
 use radnorm::constants::{ALPHA, M_MU_GEV};
-use radnorm::isr::{Cuts, Isr, Radiated, Radiator, Scheme};
+use radnorm::isr::{CHECK_ORDER, Cuts, FIXED_ORDER, Isr, Radiated, Radiator, Scheme};
 use radnorm::process::{CrossSection, Feature, FermionPair};
 use std::f64::consts::PI;
 
@@ -121,6 +121,55 @@ fn agrees_with_mpmath_at_30_digits() {
         let true_error = (got.sigma_nb - want[name]).abs();
         assert!(
             true_error <= got.error_nb + 1e-13 * want[name],
+            "{name}: true error {true_error:e} > estimate {:e}",
+            got.error_nb
+        );
+    }
+}
+
+#[test]
+fn sqrt_s_on_and_next_to_a_peak_agrees_with_mpmath_on_the_fixed_path() {
+    // √s on a resonance, just below it (the peak above √s) and just above it: the fixed
+    // path limits its head panel and grades from x = 0 there (before, these went adaptive).
+    // Reference: tests/ref/isr_convolution.py, mpmath at 30 digits.
+    let Some(out) = python_reference("isr_convolution.py", &[]) else {
+        return;
+    };
+    let want = parse_key_values(&out);
+    let wide = WithPeak::new(5.2, 0.04, 30.0);
+    let narrow = WithPeak::new(3.0969, 92.6e-6, 3000.0);
+    // (name, √s, σ_d, its peak's M and Γ)
+    let rows: [(&str, f64, &WithPeak, f64, f64); 5] = [
+        ("kf2_bw40_on", 5.2, &wide, 5.2, 0.04),
+        ("kf2_bw40_below", 5.15, &wide, 5.2, 0.04),
+        ("kf2_bw40_above", 5.26, &wide, 5.2, 0.04),
+        ("kf2_narrow_on", 3.0969, &narrow, 3.0969, 92.6e-6),
+        ("kf2_narrow_below", 3.0967, &narrow, 3.0969, 92.6e-6),
+    ];
+    let link = isr(Scheme::KuraevFadin2, Some(0.5));
+    for (name, rs, sigma, m, gamma) in rows {
+        let got = link.observe(sigma, rs * rs).unwrap();
+        // The fixed path costs whole panels of FIXED_ORDER + CHECK_ORDER evaluations; the
+        // adaptive fallback's GK21 counts are multiples of 21, and far more of them.
+        let per_panel = FIXED_ORDER + CHECK_ORDER;
+        assert!(
+            got.evaluations.is_multiple_of(per_panel) && got.evaluations <= 8 * per_panel,
+            "{name}: {} evaluations, not the fixed path",
+            got.evaluations
+        );
+        assert_rel(
+            &format!("isr {name} vs mpmath"),
+            got.sigma_nb,
+            want[name],
+            VS_MPMATH,
+        );
+        // The error estimate covers the true error up to f64 rounding, which a peak
+        // amplifies: σ_d's condition number in s′ is up to s/(MΓ) there, times the two
+        // roundings of s′ = s(1 − x) (≈ 1.5e-11 relative for the narrow peak; seen 4e-12).
+        let rounding = (2.0 * f64::EPSILON * rs * rs / (m * gamma)).max(1e-13);
+        let true_error = (got.sigma_nb - want[name]).abs();
+        assert!(
+            true_error <= got.error_nb + rounding * want[name],
             "{name}: true error {true_error:e} > estimate {:e}",
             got.error_nb
         );

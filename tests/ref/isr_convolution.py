@@ -85,6 +85,18 @@ cases = {
     # A J/psi-like narrow peak (M = 3.0969 GeV, Gamma = 92.6 keV, 3000 nb) below sqrt(s).
     "kf2_bw_32_half": (mp.mpf("3.2"), mp.mpf("0.5"), "kf2",
                        (mp.mpf("3.0969"), mp.mpf("92.6e-6"), mp.mpf(3000))),
+    # sqrt(s) on a peak, just below it and just above it: a 40 MeV wide peak of 30 nb at
+    # 5.2 GeV (a scan across a resonance) and the narrow one above.
+    "kf2_bw40_on": (mp.mpf("5.2"), mp.mpf("0.5"), "kf2",
+                    (mp.mpf("5.2"), mp.mpf("0.04"), mp.mpf(30))),
+    "kf2_bw40_below": (mp.mpf("5.15"), mp.mpf("0.5"), "kf2",
+                       (mp.mpf("5.2"), mp.mpf("0.04"), mp.mpf(30))),
+    "kf2_bw40_above": (mp.mpf("5.26"), mp.mpf("0.5"), "kf2",
+                       (mp.mpf("5.2"), mp.mpf("0.04"), mp.mpf(30))),
+    "kf2_narrow_on": (mp.mpf("3.0969"), mp.mpf("0.5"), "kf2",
+                      (mp.mpf("3.0969"), mp.mpf("92.6e-6"), mp.mpf(3000))),
+    "kf2_narrow_below": (mp.mpf("3.0967"), mp.mpf("0.5"), "kf2",
+                         (mp.mpf("3.0969"), mp.mpf("92.6e-6"), mp.mpf(3000))),
 }
 for name, (rs, xm, scheme, bw) in cases.items():
     print(name, mp.nstr(observed(rs, xm, scheme, bw), 20))
