@@ -55,7 +55,7 @@ fn isr_vp(c: &mut Criterion) {
         |b| b.iter(|| half.observe(&dressed, black_box(49.0)).unwrap().sigma_nb),
     );
     // The floor under every VP point: one evaluation of the dressed σ_d (a fixed panel
-    // takes 32 + 24 of them).
+    // takes 24 + 16 to 28 + 20 of them).
     c.bench_function("dressed mumu sigma_d, full VP, one evaluation", |b| {
         b.iter(|| dressed.sigma_nb(black_box(100.0)))
     });

@@ -15,7 +15,7 @@
 
 mod common;
 use common::assert_rel;
-use radnorm::isr::{CHECK_ORDER, Cuts, FIXED_ORDER, Isr, Radiator, Scheme};
+use radnorm::isr::{Cuts, Isr, Radiator, Scheme};
 use radnorm::numeric::{Status, Tolerance, integrate_double_exponential};
 use radnorm::process::{CrossSection, Feature, FermionPair};
 use radnorm::rmodel::Region;
@@ -138,7 +138,6 @@ fn narrow_vp_resonances_in_range_take_the_fixed_path_and_agree() {
     let dressed = Dressed::new(FermionPair::muon(), Vp::full());
     let peaks = dressed_peaks(&dressed);
     let isr = Isr::new(Scheme::KuraevFadin2, Cuts::NONE.with_x_max(0.5).unwrap());
-    let per_panel = FIXED_ORDER + CHECK_ORDER;
     // (√s, what lies in s′ ∈ [s/2, s], the most fixed-rule panels allowed: a few more than
     // the 1, 4, 11, 4, 10, 11, 11 taken). Before the sinh-graded peak panels and the dressed
     // poles every row went adaptive (the ρ row by refusal, the others because the fixed
@@ -161,10 +160,11 @@ fn narrow_vp_resonances_in_range_take_the_fixed_path_and_agree() {
             got.error_nb <= 1e-8 * got.sigma_nb,
             "{what}: error estimate misses 1e-8: {got:?}"
         );
-        // The fixed path costs panels × (32 + 24) evaluations; the adaptive one is GK21.
+        // The fixed path reports its panels; the adaptive one none.
         assert!(
-            got.evaluations.is_multiple_of(per_panel) && got.evaluations <= max_panels * per_panel,
-            "{what}: {} evaluations, not the fixed path within {max_panels} panels",
+            (1..=max_panels).contains(&got.panels),
+            "{what}: {} panels ({} evaluations), not the fixed path within {max_panels} panels",
+            got.panels,
             got.evaluations
         );
         let want = reference(&dressed, s, got.x_max, &peaks);

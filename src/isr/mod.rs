@@ -11,7 +11,7 @@ mod fsr;
 mod radiator;
 mod spread;
 
-pub use convolve::{CHECK_ORDER, FIXED_ORDER, Isr, Observed, Radiated};
+pub use convolve::{HEAD_ORDERS, Isr, LOG_ORDERS, Observed, PEAK_ORDERS, Radiated, SOFT_ORDERS};
 pub use cuts::Cuts;
 pub use fsr::schwinger_factor;
 pub use radiator::{Radiator, Scheme};
