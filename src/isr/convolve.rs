@@ -26,7 +26,7 @@
 //! breakpoints at the features and around every peak, which reports its own error.
 
 use super::{Cuts, IsrError, Order, Radiator, Scheme};
-use crate::numeric::{GaussLegendre, Status, Tolerance, integrate};
+use crate::numeric::{GaussLegendre, Status, Tolerance, fast, integrate};
 use crate::process::{CrossSection, Feature};
 use std::sync::OnceLock;
 
@@ -197,44 +197,6 @@ enum Panel {
     },
 }
 
-impl Panel {
-    /// The panel variable and the Jacobian at u ∈ [0, 1].
-    #[inline]
-    fn map(&self, u: f64) -> (f64, f64) {
-        match *self {
-            Panel::Head { t_max, .. } => (t_max * u, t_max),
-            Panel::Log {
-                lo,
-                hi,
-                at_lo,
-                at_hi,
-            } => {
-                let l = hi - lo;
-                match (at_lo, at_hi) {
-                    (End::Root, End::Root) => {
-                        (lo + l * u * u * (3.0 - 2.0 * u), 6.0 * l * u * (1.0 - u))
-                    }
-                    (End::Root, _) => (lo + l * u * u, 2.0 * l * u),
-                    (_, End::Root) => (hi - l * (1.0 - u) * (1.0 - u), 2.0 * l * (1.0 - u)),
-                    _ => (lo + l * u, l),
-                }
-            }
-            Panel::Peak {
-                centre,
-                dir,
-                gamma,
-                xi_lo,
-                xi_hi,
-            } => {
-                let w = xi_hi - xi_lo;
-                let e = (xi_lo + w * u).exp();
-                let (sinh, cosh) = (0.5 * (e - 1.0 / e), 0.5 * (e + 1.0 / e));
-                (centre + dir * gamma * sinh, w * gamma * cosh)
-            }
-        }
-    }
-}
-
 /// The radiator side of the integrand at one s: for a rule node, the weight that multiplies
 /// σ_d and the s′ where σ_d is taken. Shared by the value ([`Integrand`]) and the node
 /// listing ([`Isr::visit_nodes`]).
@@ -255,38 +217,154 @@ impl Kernel {
         }
     }
 
-    /// In t = x^β: (C + H(x)·x/(βt), s(1 − x)), given t and ln t.
+    /// In t = x^β: (C + H(x)·x/(βt), s(1 − x)), given t and ln t. (x below 1e-304
+    /// contributes nothing and keeps the branch-free exp in its domain.)
     #[inline(always)]
     fn head(&self, t: f64, ln_t: f64) -> (f64, f64) {
-        let ln_x = ln_t * self.inv_beta;
-        let x = ln_x.exp();
-        let hard = self.rad.hard_with_logs(x, ln_x, ln_one_minus(x));
+        let ln_x = (ln_t * self.inv_beta).max(-700.0);
+        let x = fast::exp(ln_x);
+        let hard = self.rad.hard_with_logs(x, ln_x, fast::ln_one_minus(x));
         let weight = self.rad.soft_coefficient() + hard * x / t * self.inv_beta;
         (weight, self.s * (1.0 - x))
     }
 
-    /// In v = ln(1 − x): (F(x)·(1 − x), s e^v).
+    /// In v = ln(1 − x) < 0: (F(x)·(1 − x), s e^v).
     #[inline(always)]
     fn log(&self, v: f64) -> (f64, f64) {
-        let y = v.exp();
-        // 1 − y is exact for y ≤ 1/2 (Sterbenz); nearer x = 0 expm1 keeps the digits.
-        let x = if y <= 0.5 { 1.0 - y } else { -v.exp_m1() };
-        let ln_x = x.ln();
+        let y = fast::exp(v);
+        // 1 − y is exact for y ≤ 1/2 (Sterbenz); nearer x = 0 expm1 keeps the digits
+        // (both are computed: a select, not a branch, keeps the node loop vectorisable).
+        let x = if y <= 0.5 {
+            1.0 - y
+        } else {
+            -fast::exp_m1_small(v.max(-0.7))
+        };
+        let ln_x = fast::ln(x);
         let b = self.rad.beta();
-        let f = self.rad.soft_coefficient() * b * ((b - 1.0) * ln_x).exp()
+        let f = self.rad.soft_coefficient() * b * fast::exp((b - 1.0) * ln_x)
             + self.rad.hard_with_logs(x, ln_x, v);
         (f * y, self.s * y)
     }
 
-    /// (weight × Jacobian, s′) at the rule node u (with ln u) of a panel.
+    /// The nodes of `rule` on `panel` as (rule weight × radiator weight × Jacobian, s′),
+    /// into `out`; returns their number. One straight-line loop per panel map, so that the
+    /// compiler vectorises the radiator side; σ_d is then taken node by node.
+    ///
+    /// On x86-64 CPUs with AVX2 and FMA the loops run from a copy compiled for them (4 lanes
+    /// instead of the baseline's 2: 1.5–2× faster per point). The loops have no reductions
+    /// and Rust never fuses a·b + c on its own, so both copies give the same bits.
+    #[inline]
+    fn fill(&self, panel: &Panel, rule: &Rule, out: &mut Nodes) -> usize {
+        #[cfg(target_arch = "x86_64")]
+        if std::arch::is_x86_feature_detected!("avx2") && std::arch::is_x86_feature_detected!("fma")
+        {
+            // SAFETY: the CPU has AVX2 and FMA, checked on the line above.
+            return unsafe { self.fill_avx2(panel, rule, out) };
+        }
+        self.fill_portable(panel, rule, out)
+    }
+
+    /// [`Kernel::fill_portable`] compiled for AVX2 + FMA.
+    #[cfg(target_arch = "x86_64")]
+    #[target_feature(enable = "avx2,fma")]
+    fn fill_avx2(&self, panel: &Panel, rule: &Rule, out: &mut Nodes) -> usize {
+        self.fill_portable(panel, rule, out)
+    }
+
     #[inline(always)]
-    fn node(&self, panel: &Panel, u: f64, ln_u: f64) -> (f64, f64) {
-        let (z, jac) = panel.map(u);
-        let (w, s_prime) = match panel {
-            Panel::Head { ln_t_max, .. } => self.head(z, ln_t_max + ln_u),
-            Panel::Log { .. } | Panel::Peak { .. } => self.log(z),
-        };
-        (w * jac, s_prime)
+    fn fill_portable(&self, panel: &Panel, rule: &Rule, out: &mut Nodes) -> usize {
+        match *panel {
+            Panel::Head { t_max, ln_t_max } => self.fill_with(rule, out, |u, ln_u| {
+                let (w, s_prime) = self.head(t_max * u, ln_t_max + ln_u);
+                (w * t_max, s_prime)
+            }),
+            Panel::Log {
+                lo,
+                hi,
+                at_lo,
+                at_hi,
+            } => {
+                let l = hi - lo;
+                match (at_lo, at_hi) {
+                    (End::Root, End::Root) => self.fill_log(rule, out, |u| {
+                        (lo + l * u * u * (3.0 - 2.0 * u), 6.0 * l * u * (1.0 - u))
+                    }),
+                    (End::Root, _) => self.fill_log(rule, out, |u| (lo + l * u * u, 2.0 * l * u)),
+                    (_, End::Root) => self.fill_log(rule, out, |u| {
+                        (hi - l * (1.0 - u) * (1.0 - u), 2.0 * l * (1.0 - u))
+                    }),
+                    _ => self.fill_log(rule, out, |u| (lo + l * u, l)),
+                }
+            }
+            Panel::Peak {
+                centre,
+                dir,
+                gamma,
+                xi_lo,
+                xi_hi,
+            } => {
+                let w = xi_hi - xi_lo;
+                self.fill_log(rule, out, |u| {
+                    let e = fast::exp(xi_lo + w * u);
+                    let (sinh, cosh) = (0.5 * (e - 1.0 / e), 0.5 * (e + 1.0 / e));
+                    (centre + dir * gamma * sinh, w * gamma * cosh)
+                })
+            }
+        }
+    }
+
+    /// [`Kernel::fill`] for a panel in v given its map u ↦ (v, dv/du).
+    #[inline(always)]
+    fn fill_log(&self, rule: &Rule, out: &mut Nodes, map: impl Fn(f64) -> (f64, f64)) -> usize {
+        self.fill_with(rule, out, |u, _| {
+            let (v, jac) = map(u);
+            let (w, s_prime) = self.log(v);
+            (w * jac, s_prime)
+        })
+    }
+
+    #[inline(always)]
+    fn fill_with(
+        &self,
+        rule: &Rule,
+        out: &mut Nodes,
+        node: impl Fn(f64, f64) -> (f64, f64),
+    ) -> usize {
+        let n = rule.nodes.len();
+        let nodes = rule.nodes.iter().zip(&rule.ln_nodes).zip(&rule.weights);
+        let slots = out.weight[..n].iter_mut().zip(&mut out.s_prime[..n]);
+        for (((&u, &ln_u), &rule_w), (w_out, s_out)) in nodes.zip(slots) {
+            let (w, s_prime) = node(u, ln_u);
+            *w_out = rule_w * w;
+            *s_out = s_prime;
+        }
+        n
+    }
+}
+
+/// The most points of any fixed rule.
+const MAX_ORDER: usize = 32;
+const _: () = {
+    let all = [HEAD_ORDERS, LOG_ORDERS, PEAK_ORDERS, SOFT_ORDERS];
+    let mut i = 0;
+    while i < all.len() {
+        assert!(all[i][0] <= MAX_ORDER && all[i][1] <= MAX_ORDER);
+        i += 1;
+    }
+};
+
+/// One panel's nodes (see [`Kernel::fill`]).
+struct Nodes {
+    weight: [f64; MAX_ORDER],
+    s_prime: [f64; MAX_ORDER],
+}
+
+impl Nodes {
+    fn new() -> Self {
+        Nodes {
+            weight: [0.0; MAX_ORDER],
+            s_prime: [0.0; MAX_ORDER],
+        }
     }
 }
 
@@ -313,23 +391,13 @@ impl<C: CrossSection + ?Sized> Integrand<'_, C> {
 
     /// Σ w·f over one fixed rule on one panel.
     #[inline]
-    fn sum(&self, panel: &Panel, rule: &Rule) -> f64 {
+    fn sum(&self, panel: &Panel, rule: &Rule, nodes: &mut Nodes) -> f64 {
+        let n = self.kernel.fill(panel, rule, nodes);
         let mut acc = 0.0;
-        for i in 0..rule.nodes.len() {
-            let (w, s_prime) = self.kernel.node(panel, rule.nodes[i], rule.ln_nodes[i]);
-            acc += rule.weights[i] * w * self.sigma.sigma_nb(s_prime);
+        for (w, &s_prime) in nodes.weight[..n].iter().zip(&nodes.s_prime[..n]) {
+            acc += w * self.sigma.sigma_nb(s_prime);
         }
         acc
-    }
-}
-
-/// ln(1 − x), by its series where most head nodes sit (x < 1e-3; 6 terms reach 1e-19).
-#[inline]
-fn ln_one_minus(x: f64) -> f64 {
-    if x < 1e-3 {
-        -x * (1.0 + x * (0.5 + x * (1.0 / 3.0 + x * (0.25 + x * (0.2 + x / 6.0)))))
-    } else {
-        (-x).ln_1p()
     }
 }
 
@@ -531,14 +599,15 @@ impl Isr {
         let Some(panels) = &setup.panels else {
             return Ok(false);
         };
+        let mut nodes = Nodes::new();
         panels.for_each(&setup.kernel, |p| {
             let rule = &rules().pair(&p)[match order {
                 Order::High => 0,
                 Order::Low => 1,
             }];
-            for i in 0..rule.nodes.len() {
-                let (w, s_prime) = setup.kernel.node(&p, rule.nodes[i], rule.ln_nodes[i]);
-                visit(s_prime, rule.weights[i] * w);
+            let n = setup.kernel.fill(&p, rule, &mut nodes);
+            for (&w, &s_prime) in nodes.weight[..n].iter().zip(&nodes.s_prime[..n]) {
+                visit(s_prime, w);
             }
         });
         Ok(true)
@@ -603,9 +672,13 @@ impl Isr {
     ) -> Option<Observed> {
         let r = rules();
         let (mut value, mut error, mut evaluations, mut n) = (0.0, 0.0, 0, 0);
+        let mut nodes = Nodes::new();
         panels.for_each(&f.kernel, |p| {
             let [hi_rule, lo_rule] = r.pair(&p);
-            let (hi, lo) = (f.sum(&p, hi_rule), f.sum(&p, lo_rule));
+            let (hi, lo) = (
+                f.sum(&p, hi_rule, &mut nodes),
+                f.sum(&p, lo_rule, &mut nodes),
+            );
             value += hi;
             error += (hi - lo).abs();
             evaluations += hi_rule.nodes.len() + lo_rule.nodes.len();

@@ -10,6 +10,7 @@ mod gauss_kronrod;
 mod gauss_legendre;
 mod grid;
 mod guarded;
+mod lanes;
 mod li2;
 mod principal_value;
 mod singular;
@@ -21,6 +22,10 @@ pub use gauss_legendre::GaussLegendre;
 pub use grid::{Grid, GridError};
 pub use guarded::integrate_double_exponential;
 pub use li2::{li2, li2_complex};
+pub mod fast {
+    //! Branch-free elementary functions for vectorisable node loops.
+    pub use super::lanes::{exp, exp_m1_small, ln, ln_one_minus};
+}
 pub use principal_value::principal_value;
 pub use singular::integrate_power_endpoint;
 pub use spline::{CubicSpline, SplineError};
