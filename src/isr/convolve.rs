@@ -1024,6 +1024,44 @@ mod tests {
         }
     }
 
+    /// The AVX2 copy of the node loops must give the portable copy's bits (the claim in
+    /// [`Kernel::fill`]): every panel kind and map of a full-VP line shape, all rules.
+    #[cfg(target_arch = "x86_64")]
+    #[test]
+    fn node_loops_give_the_same_bits_with_and_without_avx2() {
+        if !(std::arch::is_x86_feature_detected!("avx2")
+            && std::arch::is_x86_feature_detected!("fma"))
+        {
+            return;
+        }
+        let dressed = crate::vp::Dressed::new(FermionPair::muon(), crate::vp::Vp::full());
+        let isr = Isr::new(Scheme::KuraevFadin2, Cuts::NONE);
+        let (mut kinds, mut nodes) = (std::collections::HashSet::new(), 0);
+        for sqrt_s in [2.0, 3.0969, 3.2, 4.0, 7.0, 10.0, 10.58] {
+            let s: f64 = sqrt_s * sqrt_s;
+            let setup: Setup<MAX_BREAKS> = isr
+                .setup(dressed.features(), dressed.threshold_s_gev2(), s)
+                .unwrap();
+            let panels = setup.panels.as_ref().unwrap();
+            let (mut a, mut b) = (Nodes::new(), Nodes::new());
+            panels.for_each(&setup.kernel, |p| {
+                kinds.insert(std::mem::discriminant(&p));
+                for rule in rules().pair(&p) {
+                    let n = setup.kernel.fill_portable(&p, rule, &mut a);
+                    // SAFETY: AVX2 and FMA were detected above.
+                    assert_eq!(n, unsafe { setup.kernel.fill_avx2(&p, rule, &mut b) });
+                    for i in 0..n {
+                        assert_eq!(a.weight[i].to_bits(), b.weight[i].to_bits(), "{p:?}");
+                        assert_eq!(a.s_prime[i].to_bits(), b.s_prime[i].to_bits(), "{p:?}");
+                    }
+                    nodes += n;
+                }
+            });
+        }
+        assert_eq!(kinds.len(), 3, "head, log and peak panels all visited");
+        assert!(nodes > 1000, "{nodes} nodes compared");
+    }
+
     #[test]
     fn fixed_path_agrees_with_the_adaptive_one_with_sqrt_s_on_a_peak() {
         // √s within a few widths of a peak (a scan across a resonance): the fixed path
