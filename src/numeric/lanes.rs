@@ -100,7 +100,9 @@ pub fn ln(x: f64) -> f64 {
     for c in C[..11].iter().rev() {
         acc = acc * f2 + c;
     }
-    let ef = e as f64;
+    // e as f64 through the rounding constant's mantissa (no packed i64 → f64 conversion
+    // exists below AVX-512; a cast would leave the vector loop lane by lane).
+    let ef = f64::from_bits(ROUND.to_bits().wrapping_add(e as u64)) - ROUND;
     ef * LN2_HI + (ef * LN2_LO + 2.0 * f * acc)
 }
 
