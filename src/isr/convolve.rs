@@ -353,10 +353,11 @@ const _: () = {
     }
 };
 
-/// One panel's nodes (see [`Kernel::fill`]).
+/// One panel's nodes (see [`Kernel::fill`]) and σ_d there.
 struct Nodes {
     weight: [f64; MAX_ORDER],
     s_prime: [f64; MAX_ORDER],
+    sigma_nb: [f64; MAX_ORDER],
 }
 
 impl Nodes {
@@ -364,6 +365,7 @@ impl Nodes {
         Nodes {
             weight: [0.0; MAX_ORDER],
             s_prime: [0.0; MAX_ORDER],
+            sigma_nb: [0.0; MAX_ORDER],
         }
     }
 }
@@ -393,9 +395,11 @@ impl<C: CrossSection + ?Sized> Integrand<'_, C> {
     #[inline]
     fn sum(&self, panel: &Panel, rule: &Rule, nodes: &mut Nodes) -> f64 {
         let n = self.kernel.fill(panel, rule, nodes);
+        self.sigma
+            .sigma_nb_many(&nodes.s_prime[..n], &mut nodes.sigma_nb[..n]);
         let mut acc = 0.0;
-        for (w, &s_prime) in nodes.weight[..n].iter().zip(&nodes.s_prime[..n]) {
-            acc += w * self.sigma.sigma_nb(s_prime);
+        for (w, sigma) in nodes.weight[..n].iter().zip(&nodes.sigma_nb[..n]) {
+            acc += w * sigma;
         }
         acc
     }

@@ -36,6 +36,14 @@ pub trait CrossSection: Sync {
     /// σ in nb at s in GeV²; zero below threshold, never NaN for finite s > 0.
     fn sigma_nb(&self, s_gev2: f64) -> f64;
 
+    /// `out[i] = sigma_nb(s_gev2[i])` for a batch of points (the ISR rule nodes of one
+    /// panel), bit for bit. Links whose formula vectorises override it; a wrapper forwards it.
+    fn sigma_nb_many(&self, s_gev2: &[f64], out: &mut [f64]) {
+        for (o, &s) in out.iter_mut().zip(s_gev2) {
+            *o = self.sigma_nb(s);
+        }
+    }
+
     /// The s below which σ vanishes, in GeV².
     fn threshold_s_gev2(&self) -> f64 {
         0.0
@@ -51,6 +59,9 @@ impl<T: CrossSection + ?Sized> CrossSection for &T {
     fn sigma_nb(&self, s_gev2: f64) -> f64 {
         (**self).sigma_nb(s_gev2)
     }
+    fn sigma_nb_many(&self, s_gev2: &[f64], out: &mut [f64]) {
+        (**self).sigma_nb_many(s_gev2, out)
+    }
     fn threshold_s_gev2(&self) -> f64 {
         (**self).threshold_s_gev2()
     }
@@ -62,6 +73,9 @@ impl<T: CrossSection + ?Sized> CrossSection for &T {
 impl<T: CrossSection + ?Sized + Send> CrossSection for Box<T> {
     fn sigma_nb(&self, s_gev2: f64) -> f64 {
         (**self).sigma_nb(s_gev2)
+    }
+    fn sigma_nb_many(&self, s_gev2: &[f64], out: &mut [f64]) {
+        (**self).sigma_nb_many(s_gev2, out)
     }
     fn threshold_s_gev2(&self) -> f64 {
         (**self).threshold_s_gev2()

@@ -39,6 +39,12 @@ impl<C: CrossSection, P: Polarisation> CrossSection for Dressed<C, P> {
     fn sigma_nb(&self, s_gev2: f64) -> f64 {
         self.born.sigma_nb(s_gev2) * self.vp_factor(s_gev2)
     }
+    fn sigma_nb_many(&self, s_gev2: &[f64], out: &mut [f64]) {
+        self.born.sigma_nb_many(s_gev2, out);
+        for (o, &s) in out.iter_mut().zip(s_gev2) {
+            *o *= self.vp_factor(s);
+        }
+    }
     fn threshold_s_gev2(&self) -> f64 {
         self.born.threshold_s_gev2()
     }
