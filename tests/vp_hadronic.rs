@@ -248,13 +248,19 @@ fn spacelike_delta_alpha_matches_independent_scipy_evaluation_of_the_model() {
     // No published data-driven value at a few GeV² is at hand to cite, so (as the issue
     // allows) the same model is re-implemented independently in tests/ref/vp_model.py (its
     // own α_s by solve_ivp, its own R, scipy.quad on the plain spacelike dispersion
-    // integrand) at q² = −3 GeV². The bare Γ_ee are passed in. scipy's quad at 1e-12 and
+    // integrand) at q² = −3 GeV². The bare Γ_ee, M and Γ are passed in. scipy's quad at 1e-12 and
     // the two α_s solutions (1e-10) allow 1e-8 relative; R itself must agree to 1e-9.
     let h = standard_hadronic();
     let q2 = -3.0;
     let mut args = vec![format!("{q2}")];
     for r in h.model().resonances() {
-        args.push(format!("{}={:.15e}", r.name, r.gamma_ee_bare_gev * 1e6));
+        args.push(format!(
+            "{}={:.15e}:{:.15e}:{:.15e}",
+            r.name,
+            r.gamma_ee_bare_gev * 1e6,
+            r.mass_gev,
+            r.width_gev
+        ));
     }
     let argv: Vec<&str> = args.iter().map(String::as_str).collect();
     let Some(out) = python_reference("vp_model.py", &argv) else {

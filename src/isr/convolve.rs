@@ -16,8 +16,8 @@
 //! taken the same way, from its distance outward.
 //!
 //! The peaks are those the cross-section reports. For a VP-dressed line shape the narrow
-//! resonances peak at the pole of 1/(1 − Π), ≈ 24 widths above M² for the J/ψ, which
-//! [`crate::vp::Vp`] reports (see [`crate::vp::Vp::dressed_poles`]).
+//! resonances peak at the pole of 1/(1 − Π) (the PDG mass), ≈ 24 widths above the bare M²
+//! inside Π for the J/ψ, which [`crate::vp::Vp`] reports (see [`crate::vp::Vp::dressed_poles`]).
 //!
 //! Each panel is integrated with a pair of fixed Gauss–Legendre rules sized to its kind
 //! ([`HEAD_ORDERS`], [`LOG_ORDERS`], [`PEAK_ORDERS`]); the higher gives the value, the
@@ -35,11 +35,11 @@ use std::sync::OnceLock;
 /// at t = 1, just beyond t_max = 2^−β), so the 20-point rule's error is ~ρ⁻⁴⁰ ≈ 1e-8 of the
 /// head at worst and ~1e-10 typically; the 28-point value's is ~ρ⁻⁵⁶ ≈ 1e-11.
 pub const HEAD_ORDERS: [usize; 2] = [28, 20];
-/// The same for a panel in v = ln(1 − x) between two breaks (at most [`MAX_LOG_PANEL`] long,
+/// The same for a panel in v = ln(1 − x) between two breaks (at most `MAX_LOG_PANEL` long,
 /// its neighbours' singularities at least its own length away or mapped by a square):
 /// ρ ≳ 2.5, so the 16-point estimate is ~ρ⁻³² ≲ 1e-12 and the 24-point value better still.
 pub const LOG_ORDERS: [usize; 2] = [24, 16];
-/// The same for a peak panel (see [`MAX_XI`]: ρ ≈ 1.69): the 18-point estimate is
+/// The same for a peak panel (see `MAX_XI`: ρ ≈ 1.69): the 18-point estimate is
 /// ~ρ⁻³⁶ ≈ 6e-9 of the panel, the 24-point value ~ρ⁻⁴⁸ ≈ 1e-11.
 ///
 /// The pairs were chosen on grids of 10⁴ points (μμ, √s 2–12 GeV, no and full VP,
@@ -48,7 +48,7 @@ pub const LOG_ORDERS: [usize; 2] = [24, 16];
 /// of the full-VP points to the adaptive path instead of 0.2–1.0%.
 pub const PEAK_ORDERS: [usize; 2] = [24, 18];
 /// The same for a panel graded from the soft singularity at x = 0 (v = −v_a sinh ξ, see
-/// [`graded_from_zero`]): x^(β−1) branches at the panel's own scale, and with √s on a peak
+/// `graded_from_zero`): x^(β−1) branches at the panel's own scale, and with √s on a peak
 /// the peak's poles sit there too; [24, 18] missed 1e-8 with √s on a 93 keV peak.
 pub const SOFT_ORDERS: [usize; 2] = [32, 24];
 /// The most breaks (features inside the range) the fixed path of [`Isr::observe`] takes;

@@ -11,6 +11,9 @@
 //! - `pqcd`: perturbative QCD from 2 GeV with charm and bottom mass effects ([`pqcd`]);
 //! - `narrow`: J/ψ, ψ(2S), Υ(1S, 2S, 3S) as constant-width Breit–Wigners with bare Γ_ee
 //!   (analytic in the dispersion integral);
+//! - every Breit–Wigner (ω, φ and the narrow ones) carries the bare mass and width that put
+//!   the pole of the resummed 1/(1 − Π) at the PDG values ([`Resonance`]; the J/ψ's bare mass
+//!   is 1.1 MeV below the PDG one and its bare width 25% smaller);
 //! - with a user table ([`RTable`]), `user_table` (its share, with the correlated r_syst)
 //!   and `user_table_stat` (the point-to-point r_stat) replace the smooth regions over the
 //!   table's range (ω, φ are dropped where the table covers their mass; the narrow
@@ -38,6 +41,7 @@ pub use table::{RTable, TableError};
 use crate::constants::{ALPHA, ALPHA_S_MZ, ALPHA_S_MZ_UNC, M_Z_GEV};
 use crate::process::{Feature, RRatio};
 use alpha_s::AlphaS;
+use num_complex::Complex64;
 use params::Parameters;
 use pipi::PionFormFactor;
 
@@ -89,11 +93,15 @@ impl Region {
     }
 }
 
-/// A constant-width Breit–Wigner resonance of the model.
+/// A constant-width Breit–Wigner resonance of the model, with bare parameters: the pole of
+/// the resummed 1/(1 − Π) is at the PDG M² − iMΓ, not at this `mass_gev`, `width_gev`.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Resonance {
     pub name: String,
+    /// The bare mass M₀ (GeV).
     pub mass_gev: f64,
+    /// The bare total width Γ₀ (GeV): the PDG width less the decays through the photon,
+    /// which the resummation adds back.
     pub width_gev: f64,
     /// The bare electronic width Γ_ee⁰ = Γ_ee·|1 − Π(M²)|² (Π without this resonance), GeV.
     pub gamma_ee_bare_gev: f64,
@@ -110,6 +118,14 @@ impl Resonance {
     /// R_V → (9π/α²)MΓ_ee⁰ δ(s − M²) as Γ → 0 (physics.md §2).
     pub fn strength(&self) -> f64 {
         9.0 / (ALPHA * ALPHA) * self.gamma_ee_bare_gev * self.width_gev * self.weight
+    }
+
+    /// Its peak in s: M², MΓ.
+    pub fn peak(&self) -> Feature {
+        Feature::Peak {
+            s_gev2: self.mass_gev * self.mass_gev,
+            m_gamma_gev2: self.mass_gev * self.width_gev,
+        }
     }
 
     /// R_V(s) for s > 0 (its tail below 4m_π² is of relative size (Γ/M)², kept so that the
@@ -236,6 +252,7 @@ impl RModel {
             s_gev2: params.rho.mass_gev.powi(2),
             m_gamma_gev2: params.rho.mass_gev * params.rho.width_gev,
         });
+        // At the PDG masses; the model's own Breit–Wigners move to their bare ones below.
         for r in &params.resonance {
             features.push(Feature::Peak {
                 s_gev2: r.mass_gev * r.mass_gev,
@@ -255,7 +272,74 @@ impl RModel {
             edition: params.edition.clone(),
         };
         model.undress_widths();
+        let pdg: Vec<Feature> = model.resonances.iter().map(Resonance::peak).collect();
+        model.undress_poles();
+        // Π peaks at the bare masses (the dressed line shapes at the PDG ones: `Vp` marks those).
+        for (old, r) in pdg.iter().zip(&model.resonances) {
+            if let Some(f) = model.features.iter_mut().find(|f| *f == old) {
+                *f = r.peak();
+            }
+        }
         model
+    }
+
+    /// Replace each Breit–Wigner's PDG mass and width by the bare ones that put the pole of
+    /// the resummed 1/(1 − Π) at the PDG M² − iMΓ.
+    ///
+    /// A resonance inside Π, Π_V ≈ B/(s − M₀² + iM₀Γ₀), moves the pole of 1/(1 − Π) to
+    /// s_p ≈ M₀² − iM₀Γ₀ + B/(1 − Π_rest): up in mass (J/ψ: by ≈ 24 M Γ, 1.1 MeV) and wider by
+    /// the decays through the photon that Im Π_rest adds (Γ_ee·(2 + R) + …, ≈ 25% of the
+    /// J/ψ width). The PDG mass and width are those of the physical pole, so the bare ones
+    /// are M₀² − iM₀Γ₀ = M² − iMΓ − B/(1 − Π_rest), found by moving the bare pole by the
+    /// miss of the resummed one until it is below 10⁻⁶ of the width (two or three steps;
+    /// the map is a translation to first order). Γ_ee⁰ is already bare.
+    fn undress_poles(&mut self) {
+        let smooth = crate::vp::hadronic::SmoothRule::new(self);
+        for i in 0..self.resonances.len() {
+            let target = {
+                let r = &self.resonances[i];
+                Complex64::new(r.mass_gev * r.mass_gev, -r.mass_gev * r.width_gev)
+            };
+            let mut bare = target;
+            for _ in 0..6 {
+                let pole = self.resummed_pole(i, &smooth);
+                let miss = target - pole;
+                bare += miss;
+                let r = &mut self.resonances[i];
+                r.mass_gev = bare.re.sqrt();
+                r.width_gev = -bare.im / r.mass_gev;
+                if miss.norm() < 1e-6 * target.im.abs() {
+                    break;
+                }
+            }
+        }
+    }
+
+    /// The pole of 1/(1 − Π) near resonance `i`: the zero of g(s) = (1 − Π(s))(s − M₀² +
+    /// iM₀Γ₀), smooth on the scale of M² (its own pole cancels), by two secant steps on the
+    /// real axis continued linearly (as [`crate::vp::Vp::dressed_poles`]). Π is the leptonic
+    /// part, the smooth hadronic part by its dispersion rule and every Breit–Wigner.
+    fn resummed_pole(&self, i: usize, smooth: &crate::vp::hadronic::SmoothRule) -> Complex64 {
+        let r = &self.resonances[i];
+        let (m2, mg) = (r.mass_gev * r.mass_gev, r.mass_gev * r.width_gev);
+        let pi = |s: f64| {
+            let mut pi = crate::vp::leptonic::pi_leptonic(s);
+            pi.re += smooth.re(self, s);
+            if s > self.s_threshold() {
+                pi.im -= ALPHA / 3.0 * self.r_smooth(s);
+            }
+            for bw in &self.resonances {
+                pi += crate::vp::hadronic::pi_breit_wigner(bw, s);
+            }
+            pi
+        };
+        let g = |s: f64| (1.0 - pi(s)) * Complex64::new(s - m2, mg);
+        let secant = |s1: f64, s2: f64| {
+            let (g1, g2) = (g(s1), g(s2));
+            s1 - g1 * (s2 - s1) / (g2 - g1)
+        };
+        let first = secant(m2, m2 + 16.0 * mg);
+        secant(first.re, first.re + 4.0 * mg)
     }
 
     /// Replace each PDG Γ_ee by the bare Γ_ee⁰ = Γ_ee·|1 − Π(M²)|², with Π the leptonic,

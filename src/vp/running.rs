@@ -149,15 +149,13 @@ impl Vp {
     /// turns 1/(1 − Π) into (s − M² + iMΓ)/g(s) with g(s) = (1 − Π(s))(s − M² + iMΓ)
     /// smooth on the scale of M² (the rest of Π varies there): M² becomes a zero and the
     /// peak of every VP-dressed line shape sits at the zero s_p of g, where
-    /// s_p ≈ (M² − iMΓ)/(1 − B/(M²(1 − Π_rest))). For the J/ψ that is ≈ 24 MΓ (≈ 1.1 MeV in
-    /// √s) above M² and ≈ 1.25 MΓ wide; an integral over a dressed cross-section must split
-    /// there, not only at M². g is found on the real axis and continued linearly (two secant
-    /// steps; g is linear there to ~10⁻⁶ of a width). A pole within half a width of M²
-    /// (ω, φ) adds nothing the peak at M² does not already mark, and is left out.
-    /// The pole is found from Π itself, so it follows whatever parameters the model's
-    /// Breit–Wigners carry (the shift comes from putting the PDG M and Γ into Π's
-    /// resummed propagator; were they bare parameters tuned so that the dressed pole sits at
-    /// the PDG mass, this would find it there).
+    /// s_p ≈ M² − iMΓ + B/(1 − Π_rest). The model's M and Γ are the bare ones chosen so that
+    /// s_p is the PDG pole ([`crate::rmodel::RModel`] undresses them): for the J/ψ, M² lies
+    /// ≈ 24 MΓ (≈ 1.1 MeV in √s) below the PDG mass, with a width 25% below the PDG one. An
+    /// integral over a dressed cross-section must split at s_p, not only at M². g is found
+    /// on the real axis and continued linearly (two secant steps; g is linear there to
+    /// ~10⁻⁶ of a width). A pole within half a width of M² (ω, φ) adds nothing the peak at
+    /// M² does not already mark, and is left out.
     pub fn dressed_poles(&self) -> Vec<(f64, Feature)> {
         let Some(h) = &self.hadronic else {
             return Vec::new();

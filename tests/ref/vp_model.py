@@ -3,10 +3,11 @@
 Re-implements the model from its documentation (src/rmodel/*.rs) and the parameters in
 tables/resonances.toml, with its own alpha_s (scipy solve_ivp) and its own dispersion
 integral (scipy.integrate.quad on the plain spacelike integrand, no pole subtraction, no
-tabulation). The bare electronic widths (keV) are passed in by the test, because undressing
-them needs the timelike Pi at each mass, a separate step tested elsewhere.
+tabulation). The Breit-Wigners' bare parameters (electronic width in keV, mass and width in
+GeV) are passed in by the test, because undressing them needs the timelike Pi at each mass,
+a separate step tested elsewhere.
 
-Arguments: q2 (spacelike, GeV^2) followed by `name=gamma_ee_bare_kev` pairs.
+Arguments: q2 (spacelike, GeV^2) followed by `name=gamma_ee_bare_kev:mass_gev:width_gev`.
 Prints `smooth value`, `bw value` and `r_<sqrt_s> value` lines.
 """
 import math
@@ -131,7 +132,7 @@ def r_smooth(s):
 
 
 q2 = float(sys.argv[1])
-bare = dict(a.split("=") for a in sys.argv[2:])
+bare = {k: [float(x) for x in v.split(":")] for k, v in (a.split("=") for a in sys.argv[2:])}
 edges = sorted({STH, 1.0, 1.6**2, TH["m_c_msbar_gev"] ** 2, 4.0, TH["m_b_msbar_gev"] ** 2,
                 (2 * TH["m_d0_gev"]) ** 2, (2 * TH["m_d0_gev"] + 0.2) ** 2,
                 (2 * TH["m_b_charged_gev"]) ** 2, (2 * TH["m_b_charged_gev"] + 0.2) ** 2,
@@ -147,8 +148,8 @@ total += quad(lambda u: r_smooth(1e12 / u) / (1e12 - q2 * u), 0, 1, epsabs=0, ep
 print(f"smooth {-ALPHA * q2 / (3 * math.pi) * total:.15e}")
 bw = 0.0
 for r in P["resonance"]:
-    m, g = r["mass_gev"], r["width_gev"]
-    k = 9 / ALPHA**2 * float(bare[r["name"]]) * 1e-6 * g * (1 - r["exclude_fraction"])
+    gee, m, g = bare[r["name"]]
+    k = 9 / ALPHA**2 * gee * 1e-6 * g * (1 - r["exclude_fraction"])
     # s = M^2 + M Gamma tan(theta) maps the Lorentzian to a smooth integrand over (0, inf):
     # R_V ds / (s (s - q2)) = K dtheta / (M Gamma (s - q2)).
     th0 = math.atan(-m / g)

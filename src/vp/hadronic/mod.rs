@@ -171,22 +171,8 @@ pub struct HadronicVp {
 impl HadronicVp {
     /// Tabulate the hadronic Π of `model` (≈ 25–40 ms for the default model; benches/vp.rs).
     pub fn new(model: RModel) -> Self {
-        let s_th = model.s_threshold();
-        let edges: Vec<f64> = model
-            .features()
-            .iter()
-            .filter_map(|f| match *f {
-                Feature::Edge { s_gev2 } => Some(s_gev2),
-                Feature::Peak { .. } => None,
-            })
-            .collect();
-        let peaks = model.smooth_peaks();
-        let knots: Vec<f64> = model.table().map_or(Vec::new(), |t| {
-            t.sqrt_s_gev().iter().map(|e| e * e).collect()
-        });
-        let thresholds = model.power_thresholds();
-        let rule = Rule::new(s_th, &edges, &knots, &thresholds, &peaks);
-        let g: Vec<f64> = rule.s.iter().map(|&s| model.r_smooth(s) / s).collect();
+        let SmoothRule { rule, g } = SmoothRule::new(&model);
+        let (edges, knots, peaks) = smooth_breaks(&model);
         let mut parts = Vec::new();
         for (k, region) in [
             Region::PiPi,
@@ -418,6 +404,51 @@ impl HadronicVp {
         };
         -ALPHA * q2 / (3.0 * PI) * self.rule.principal_value(g, q2, g_q)
     }
+}
+
+/// The fixed dispersion rule of a model's smooth R and R/s at its nodes: Re Π of the smooth
+/// part at any q² in a few µs, without the tables (the model's own construction uses it to
+/// undress its Breit–Wigners; [`HadronicVp`] builds its tables on it).
+pub struct SmoothRule {
+    rule: Rule,
+    g: Vec<f64>,
+}
+
+impl SmoothRule {
+    pub fn new(model: &RModel) -> Self {
+        let (edges, knots, peaks) = smooth_breaks(model);
+        let rule = Rule::new(
+            model.s_threshold(),
+            &edges,
+            &knots,
+            &model.power_thresholds(),
+            &peaks,
+        );
+        let g = rule.s.iter().map(|&s| model.r_smooth(s) / s).collect();
+        SmoothRule { rule, g }
+    }
+
+    /// Re Π of `model`'s smooth R at q² (`model` is the one the rule was built for).
+    pub fn re(&self, model: &RModel, q2: f64) -> f64 {
+        smooth_rule(&self.rule, &self.g, model, q2)
+    }
+}
+
+/// Where a model's smooth R changes character: its edges (thresholds, switches), a user
+/// table's rows (kinks) and the smooth peaks (ρ, ω in F_π), as (M², MΓ).
+fn smooth_breaks(model: &RModel) -> (Vec<f64>, Vec<f64>, [(f64, f64); 2]) {
+    let edges = model
+        .features()
+        .iter()
+        .filter_map(|f| match *f {
+            Feature::Edge { s_gev2 } => Some(s_gev2),
+            Feature::Peak { .. } => None,
+        })
+        .collect();
+    let knots = model.table().map_or(Vec::new(), |t| {
+        t.sqrt_s_gev().iter().map(|e| e * e).collect()
+    });
+    (edges, knots, model.smooth_peaks())
 }
 
 /// Re Π of the smooth R by the fixed rule.
