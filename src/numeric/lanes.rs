@@ -57,9 +57,15 @@ fn expm1_quotient(r: f64) -> f64 {
         1.0 / 20_922_789_888_000.0,
         1.0 / 355_687_428_096_000.0,
     ];
-    let mut acc = C[16];
-    for c in C[..16].iter().rev() {
-        acc = acc * r + c;
+    horner(&C, r)
+}
+
+/// Σₖ cₖ xᵏ by Horner's scheme (constant length: the loop unrolls).
+#[inline(always)]
+fn horner<const N: usize>(c: &[f64; N], x: f64) -> f64 {
+    let mut acc = c[N - 1];
+    for &ck in c[..N - 1].iter().rev() {
+        acc = acc * x + ck;
     }
     acc
 }
@@ -96,10 +102,7 @@ pub fn ln(x: f64) -> f64 {
         1.0 / 21.0,
         1.0 / 23.0,
     ];
-    let mut acc = C[11];
-    for c in C[..11].iter().rev() {
-        acc = acc * f2 + c;
-    }
+    let acc = horner(&C, f2);
     // e as f64 through the rounding constant's mantissa (no packed i64 → f64 conversion
     // exists below AVX-512; a cast would leave the vector loop lane by lane).
     let ef = f64::from_bits(ROUND.to_bits().wrapping_add(e as u64)) - ROUND;
