@@ -32,7 +32,7 @@ fn isr_vp(c: &mut Criterion) {
     }
     // Narrow resonances of the hadronic VP inside s′ ∈ [s/2, s]: the dressed line shape
     // peaks at the pole of 1/(1 − Π) (J/ψ: 24 widths above the bare M²), which the fixed path must
-    // split at and map (11 and 4 panels here).
+    // split at and map (11 and 3 panels here).
     let dressed = Dressed::new(FermionPair::muon(), Vp::full());
     for (sqrt_s, inside) in [(10.58, "Upsilon(1S-3S)"), (3.2, "J/psi")] {
         c.bench_function(

@@ -139,7 +139,7 @@ fn narrow_vp_resonances_in_range_take_the_fixed_path_and_agree() {
     let peaks = dressed_peaks(&dressed);
     let isr = Isr::new(Scheme::KuraevFadin2, Cuts::NONE.with_x_max(0.5).unwrap());
     // (√s, what lies in s′ ∈ [s/2, s], the most fixed-rule panels allowed: a few more than
-    // the 1, 4, 11, 4, 10, 11, 11 taken). Before the sinh-graded peak panels and the dressed
+    // the 1, 3, 11, 4, 11, 10, 10 taken). Before the sinh-graded peak panels and the dressed
     // poles every row went adaptive (the ρ row by refusal, the others because the fixed
     // rules missed 1e-8 by 1e-3–1e-2): 105, 903, 1428, 1008, 2373, 2436, 2520 evaluations.
     let rows: [(f64, &str, usize); 7] = [

@@ -876,7 +876,14 @@ const MAX_PIECES: usize = 8;
 fn log_panels(a: Break, b: Break, emit: &mut impl FnMut(Panel)) {
     // v = ln(1 − x) decreases with x: the lower v end is b.
     let (lo, hi) = ((-b.x).ln_1p(), (-a.x).ln_1p());
-    let (at_lo, at_hi) = (b.end, a.end);
+    // An end graded from a pole (a peak at or beyond it, the soft singularity) that lies at
+    // least the interval's length away gains nothing from grading: plain rules see ρ ≥ 5.8
+    // there. (A far peak beyond x_max used to cost a graded panel of its own.)
+    let near = |end: End| match end {
+        End::Peak { gamma, offset } if offset.hypot(gamma) >= hi - lo => End::Plain,
+        other => other,
+    };
+    let (at_lo, at_hi) = (near(b.end), near(a.end));
     let mid = 0.5 * (lo + hi);
     match (at_lo, at_hi) {
         (End::Peak { gamma, offset }, End::Plain) => peak_panels(lo, hi, gamma, offset, emit),
