@@ -202,12 +202,27 @@ impl FactorTable {
         }
         let k = ((s.to_bits() - self.bits_lo) >> SHIFT) as usize;
         let (lo, hi) = (self.cells[k] as usize, self.cells[k + 1] as usize);
-        let i = lo + self.edges[lo + 1..=hi].partition_point(|&e| e <= s);
+        let i = lo + last_at_or_below(&self.edges[lo + 1..=hi], s);
         let piece = &self.pieces[i];
         let t = ((piece.map.w(s) - piece.centre) * piece.inv_half).clamp(-1.0, 1.0);
         let [re, im] = estrin(&piece.p, t);
         Some(Complex64::new(re, im))
     }
+}
+
+/// How many of the sorted `edges` are ≤ s, by a binary search without data-dependent
+/// branches (the peaks' dense pieces made the branchy search mispredict at every step).
+#[inline]
+fn last_at_or_below(edges: &[f64], s: f64) -> usize {
+    let (mut base, mut len) = (0usize, edges.len());
+    while len > 0 {
+        let half = len / 2;
+        // edges[base + half] ≤ s moves past it; a select, not a branch.
+        let step = if edges[base + half] <= s { half + 1 } else { 0 };
+        base += step;
+        len = if step > 0 { len - half - 1 } else { half };
+    }
+    base
 }
 
 /// Σⱼ pⱼ tʲ for both components by Estrin's scheme: pairs (p₂ⱼ + p₂ⱼ₊₁t), then pairs of
@@ -237,6 +252,27 @@ fn estrin(p: &[[f64; 2]; K], t: f64) -> [f64; 2] {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn branch_free_search_counts_like_partition_point() {
+        // Against the standard library's search, on edges with repeats and on points at,
+        // between and outside them.
+        let edges = [0.5, 1.0, 1.0, 2.0, 3.5, 3.5, 3.5, 7.0, 9.0];
+        for n in 0..=edges.len() {
+            let e = &edges[..n];
+            for k in 0..200 {
+                let s = -0.5 + 0.05 * f64::from(k);
+                assert_eq!(
+                    last_at_or_below(e, s),
+                    e.partition_point(|&x| x <= s),
+                    "{n} {s}"
+                );
+            }
+            for &s in e {
+                assert_eq!(last_at_or_below(e, s), e.partition_point(|&x| x <= s));
+            }
+        }
+    }
 
     #[test]
     fn reproduces_a_function_with_a_root_edge_and_a_narrow_pole() {
