@@ -240,14 +240,9 @@ impl Kernel {
     /// In v = ln(1 − x) < 0: (F(x)·(1 − x), s e^v).
     #[inline(always)]
     fn log(&self, v: f64) -> (f64, f64) {
-        let y = fast::exp(v);
-        // 1 − y is exact for y ≤ 1/2 (Sterbenz); nearer x = 0 expm1 keeps the digits
-        // (both are computed: a select, not a branch, keeps the node loop vectorisable).
-        let x = if y <= 0.5 {
-            1.0 - y
-        } else {
-            -fast::exp_m1_small(v.max(-0.7))
-        };
+        // x = 1 − e^v = −expm1(v), which keeps its digits as x → 0.
+        let (y, y_minus_1) = fast::exp_and_exp_m1(v);
+        let x = -y_minus_1;
         let ln_x = fast::ln(x);
         let b = self.rad.beta();
         let f = self.rad.soft_coefficient() * b * fast::exp((b - 1.0) * ln_x)

@@ -15,82 +15,60 @@ const ROUND: f64 = 6_755_399_441_055_744.0;
 const LN2_HI: f64 = 0.693_147_180_369_123_8;
 const LN2_LO: f64 = 1.908_214_929_270_587_7e-10;
 
-/// e^x for −700 ≤ x ≤ 700: x = k ln 2 + r, |r| ≤ ln 2/2, e^r by its Taylor series
-/// through r¹³ (remainder (ln 2/2)¹⁴/14! ≈ 4.5e-18).
+/// 1/(j + 1)! for j = 0…12: (e^r − 1)/r = Σ_j r^j/(j + 1)!.
+const EXPM1_QUOTIENT: [f64; 13] = [
+    1.0,
+    1.0 / 2.0,
+    1.0 / 6.0,
+    1.0 / 24.0,
+    1.0 / 120.0,
+    1.0 / 720.0,
+    1.0 / 5_040.0,
+    1.0 / 40_320.0,
+    1.0 / 362_880.0,
+    1.0 / 3_628_800.0,
+    1.0 / 39_916_800.0,
+    1.0 / 479_001_600.0,
+    1.0 / 6_227_020_800.0,
+];
+
+/// x = k ln 2 + r with |r| ≤ ln 2/2 (Cody–Waite): (k, r, 2^k) for −700 ≤ x ≤ 700, and
+/// (e^r − 1)/r through r¹² (remainder (ln 2/2)¹³/14! ≈ 1.3e-17 of it).
 #[inline(always)]
-pub fn exp(x: f64) -> f64 {
+fn reduce(x: f64) -> (f64, f64, f64, f64) {
     let k = (x * LOG2_E + ROUND) - ROUND;
     let r = (x - k * LN2_HI) - k * LN2_LO;
-    let p = taylor_exp(r);
     // 2^k from k's bits in the rounding constant's mantissa.
     let k_bits = (k + ROUND).to_bits().wrapping_sub(ROUND.to_bits());
     let two_k = f64::from_bits(k_bits.wrapping_add(1023) << 52);
-    p * two_k
+    (k, r, two_k, horner(&EXPM1_QUOTIENT, r))
 }
 
-/// e^r for |r| ≤ ln 2/2.
+/// e^x for −700 ≤ x ≤ 700 (Taylor series of e^r through r¹³ after the reduction).
 #[inline(always)]
-fn taylor_exp(r: f64) -> f64 {
-    const C: [f64; 14] = [
-        1.0,
-        1.0,
-        1.0 / 2.0,
-        1.0 / 6.0,
-        1.0 / 24.0,
-        1.0 / 120.0,
-        1.0 / 720.0,
-        1.0 / 5_040.0,
-        1.0 / 40_320.0,
-        1.0 / 362_880.0,
-        1.0 / 3_628_800.0,
-        1.0 / 39_916_800.0,
-        1.0 / 479_001_600.0,
-        1.0 / 6_227_020_800.0,
-    ];
-    horner(&C, r)
+pub fn exp(x: f64) -> f64 {
+    let (_, r, two_k, q) = reduce(x);
+    (1.0 + r * q) * two_k
 }
 
-/// (e^r − 1)/r = Σ r^j/(j + 1)! through r¹⁶ by Horner; remainder |r|¹⁷/18! ≤ 3.6e-19 for
-/// |r| ≤ 0.7.
+/// (e^x, e^x − 1) for −700 ≤ x ≤ 700 from one series: e^x − 1 keeps its relative accuracy
+/// as x → 0 (there k = 0 and it is r·(e^r − 1)/r; elsewhere |e^x − 1| > 0.29 and the
+/// subtraction loses under a bit).
 #[inline(always)]
-fn expm1_quotient(r: f64) -> f64 {
-    const C: [f64; 17] = [
-        1.0,
-        1.0 / 2.0,
-        1.0 / 6.0,
-        1.0 / 24.0,
-        1.0 / 120.0,
-        1.0 / 720.0,
-        1.0 / 5_040.0,
-        1.0 / 40_320.0,
-        1.0 / 362_880.0,
-        1.0 / 3_628_800.0,
-        1.0 / 39_916_800.0,
-        1.0 / 479_001_600.0,
-        1.0 / 6_227_020_800.0,
-        1.0 / 87_178_291_200.0,
-        1.0 / 1_307_674_368_000.0,
-        1.0 / 20_922_789_888_000.0,
-        1.0 / 355_687_428_096_000.0,
-    ];
-    horner(&C, r)
+pub fn exp_and_exp_m1(x: f64) -> (f64, f64) {
+    let (k, r, two_k, q) = reduce(x);
+    let y = (1.0 + r * q) * two_k;
+    (y, if k == 0.0 { r * q } else { y - 1.0 })
 }
 
-/// Σₖ cₖ xᵏ by Horner's scheme (constant length: the loop unrolls).
+/// Σₖ cₖ xᵏ by Horner's scheme (constant coefficients: inlined, the loop unrolls).
 #[inline(always)]
-fn horner<const N: usize>(c: &[f64; N], x: f64) -> f64 {
-    let mut acc = c[N - 1];
-    for &ck in c[..N - 1].iter().rev() {
+fn horner(c: &[f64], x: f64) -> f64 {
+    let mut acc = c[c.len() - 1];
+    for &ck in c[..c.len() - 1].iter().rev() {
         acc = acc * x + ck;
     }
     acc
-}
-
-/// e^x − 1 for −0.7 ≤ x ≤ 0.7 with relative accuracy kept as x → 0 (the Taylor series
-/// through x¹⁷).
-#[inline(always)]
-pub fn exp_m1_small(x: f64) -> f64 {
-    x * expm1_quotient(x)
 }
 
 /// ln x for a positive normal x: x = m·2^e with m ∈ [√½, √2), ln m = 2 atanh f,
@@ -196,9 +174,21 @@ mod tests {
             let e = worst(ln_one_minus, |x| (-x).ln_1p(), samples(lo, hi, 100_000));
             assert!(e < ULP8, "ln(1 − x) on [{lo}, {hi}]: {e:e}");
         }
-        for (lo, hi) in [(-0.7, -1e-3), (-1e-3, -1e-18), (1e-18, 0.7)] {
-            let e = worst(exp_m1_small, f64::exp_m1, samples(lo, hi, 100_000));
+        for (lo, hi) in [
+            (-40.0, -0.7),
+            (-0.7, -1e-3),
+            (-1e-3, -1e-18),
+            (1e-18, 0.7),
+            (0.7, 40.0),
+        ] {
+            let e = worst(
+                |x| exp_and_exp_m1(x).1,
+                f64::exp_m1,
+                samples(lo, hi, 100_000),
+            );
             assert!(e < ULP8, "expm1 on [{lo}, {hi}]: {e:e}");
+            let e = worst(|x| exp_and_exp_m1(x).0, f64::exp, samples(lo, hi, 100_000));
+            assert!(e < ULP8, "exp (paired) on [{lo}, {hi}]: {e:e}");
         }
     }
 }
