@@ -8,6 +8,7 @@
 //! checks: callers guarantee the domain).
 
 use std::f64::consts::LOG2_E;
+use std::ops::{Add, Mul};
 
 /// 1.5·2⁵²: adding and subtracting it rounds an |x| < 2⁵¹ to the nearest integer.
 const ROUND: f64 = 6_755_399_441_055_744.0;
@@ -41,7 +42,7 @@ fn reduce(x: f64) -> (f64, f64, f64, f64) {
     // 2^k from k's bits in the rounding constant's mantissa.
     let k_bits = (k + ROUND).to_bits().wrapping_sub(ROUND.to_bits());
     let two_k = f64::from_bits(k_bits.wrapping_add(1023) << 52);
-    (k, r, two_k, poly(&EXPM1_QUOTIENT, r))
+    (k, r, two_k, estrin(&EXPM1_QUOTIENT, r))
 }
 
 /// e^x for −700 ≤ x ≤ 700 (Taylor series of e^r through r¹³ after the reduction).
@@ -62,11 +63,15 @@ pub fn exp_and_exp_m1(x: f64) -> (f64, f64) {
 }
 
 /// Σₖ cₖ xᵏ by Estrin's scheme: pairs c₂ⱼ + c₂ⱼ₊₁x, then pairs of those with x², x⁴, …
-/// Horner's chain of N dependent multiply-adds made these loops latency-bound (a third of
-/// the node loop's time was spent waiting in it); Estrin's is log₂N deep. (Constant N: the
-/// loops unroll.)
+/// Horner's chain of N dependent multiply-adds made the node loops latency-bound (a third of
+/// their time was spent waiting in it); Estrin's is log₂N deep. The coefficients may be
+/// any vector over the reals (the VP factor table evaluates Re and Im together). Constant
+/// N: the loops unroll.
 #[inline(always)]
-fn poly<const N: usize>(c: &[f64; N], x: f64) -> f64 {
+pub fn estrin<T, const N: usize>(c: &[T; N], x: f64) -> T
+where
+    T: Copy + Add<Output = T> + Mul<f64, Output = T>,
+{
     let mut v = *c;
     let mut n = N;
     let mut p = x;
@@ -109,7 +114,7 @@ pub fn ln(x: f64) -> f64 {
         1.0 / 21.0,
         1.0 / 23.0,
     ];
-    let acc = poly(&C, f2);
+    let acc = estrin(&C, f2);
     // e as f64 through the rounding constant's mantissa (no packed i64 → f64 conversion
     // exists below AVX-512; a cast would leave the vector loop lane by lane).
     let ef = f64::from_bits(ROUND.to_bits().wrapping_add(e as u64)) - ROUND;

@@ -15,6 +15,7 @@
 //! Clenshaw's K) with the real and imaginary part side by side.
 
 use super::hadronic::chebyshev::{Chebyshev, PieceStats};
+use crate::numeric::fast::estrin;
 use num_complex::Complex64;
 
 /// Coefficients per piece (degree K − 1): low enough for a short Estrin tree and a power
@@ -65,7 +66,7 @@ struct Piece {
     map: Map,
     centre: f64,
     inv_half: f64,
-    p: [[f64; 2]; K],
+    p: [Complex64; K],
 }
 
 /// The tabulated 1/(1 − Π(s + i0)) of one VP model.
@@ -148,7 +149,9 @@ impl FactorTable {
                         map,
                         centre: 0.5 * (a + b),
                         inv_half: 2.0 / (b - a),
-                        p: table.power_coefficients(i),
+                        p: table
+                            .power_coefficients(i)
+                            .map(|[re, im]| Complex64::new(re, im)),
                     },
                 ));
             }
@@ -205,8 +208,7 @@ impl FactorTable {
         let i = lo + last_at_or_below(&self.edges[lo + 1..=hi], s);
         let piece = &self.pieces[i];
         let t = ((piece.map.w(s) - piece.centre) * piece.inv_half).clamp(-1.0, 1.0);
-        let [re, im] = estrin(&piece.p, t);
-        Some(Complex64::new(re, im))
+        Some(estrin(&piece.p, t))
     }
 }
 
@@ -223,30 +225,6 @@ fn last_at_or_below(edges: &[f64], s: f64) -> usize {
         len = if step > 0 { len - half - 1 } else { half };
     }
     base
-}
-
-/// Σⱼ pⱼ tʲ for both components by Estrin's scheme: pairs (p₂ⱼ + p₂ⱼ₊₁t), then pairs of
-/// those with t², t⁴, … (the loops have constant bounds and unroll).
-#[inline]
-fn estrin(p: &[[f64; 2]; K], t: f64) -> [f64; 2] {
-    let mut v = *p;
-    let mut n = K;
-    let mut x = t;
-    while n > 1 {
-        let half = n / 2;
-        for j in 0..half {
-            v[j] = [
-                v[2 * j][0] + v[2 * j + 1][0] * x,
-                v[2 * j][1] + v[2 * j + 1][1] * x,
-            ];
-        }
-        if n % 2 == 1 {
-            v[half] = v[n - 1];
-        }
-        n = half + n % 2;
-        x *= x;
-    }
-    v[0]
 }
 
 #[cfg(test)]
