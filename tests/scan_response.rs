@@ -29,17 +29,22 @@ mass_gev = 5.2
 width_gev = 0.04
 "#;
 
+/// The card's template through knots at the points `e` (unit starting values).
+fn shape_model(plan: &radnorm::scan::ScanPlan, e: &[f64]) -> ShapeModel {
+    ShapeModel::new(
+        plan.continuum.clone(),
+        plan.resonances.clone(),
+        e.to_vec(),
+        &vec![1.0; e.len()],
+    )
+    .unwrap()
+}
+
 #[test]
 fn response_matrix_reproduces_the_chain_for_any_line_shape() {
     let plan = parse_scan_card(CARD, "response.toml").unwrap();
     let e: Vec<f64> = (0..15).map(|i| 5.06 + 0.02 * i as f64).collect();
-    let model = ShapeModel::new(
-        plan.continuum.clone(),
-        plan.resonances.clone(),
-        e.clone(),
-        &[1.0; 15],
-    )
-    .unwrap();
+    let model = shape_model(&plan, &e);
     // A line shape the template does not contain (the spline carries the wiggle).
     let y: Vec<f64> = e
         .iter()
@@ -83,13 +88,7 @@ fn rows_outside_the_fast_paths_come_from_the_chain() {
     let card = CARD.replace("width_gev = 0.04", "width_gev = 0.0005");
     let plan = parse_scan_card(&card, "narrow.toml").unwrap();
     let e: Vec<f64> = (0..8).map(|i| 5.17 + 0.01 * i as f64).collect();
-    let model = ShapeModel::new(
-        plan.continuum.clone(),
-        plan.resonances.clone(),
-        e.clone(),
-        &[1.0; 8],
-    )
-    .unwrap();
+    let model = shape_model(&plan, &e);
     let y: Vec<f64> = e.iter().map(|v| 10.0 + 2.0 * (v * 40.0).sin()).collect();
     let shape = model.through(&y);
     let spread = vec![2.0; e.len()];

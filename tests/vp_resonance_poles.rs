@@ -3,6 +3,7 @@
 
 use radnorm::process::Feature;
 use radnorm::rmodel::params::Parameters;
+use radnorm::vp::leptonic::LEPTON_MASSES_GEV;
 use radnorm::vp::{Vp, standard_hadronic};
 
 /// The narrow states of the shipped table (PDG 2026, `tables/resonances.toml`, one citation
@@ -75,9 +76,9 @@ fn the_bare_width_lacks_the_decays_through_the_photon() {
             .find(|r| r.name == name)
             .expect("narrow resonance in the default model");
         let s = m * m;
-        // m_e, m_μ (CODATA 2022), m_τ (PDG 2024), GeV, from memory. R is the model's own
-        // continuum: the relation checked is the resummation's, not the R model's.
-        let leptons: f64 = [0.000_510_998_95, 0.105_658_375_5, 1.776_93]
+        // R is the model's own continuum: the relation checked is the resummation's, not the
+        // R model's. Lepton masses: CODATA 2022 / PDG 2026, as in `constants`.
+        let leptons: f64 = LEPTON_MASSES_GEV
             .iter()
             .map(|&ml| {
                 let b2: f64 = 1.0 - 4.0 * ml * ml / s;

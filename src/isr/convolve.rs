@@ -35,11 +35,11 @@ use std::sync::OnceLock;
 /// in t = x^β is analytic in a Bernstein ellipse of ρ ≈ 1.6 at x₀ = 1/2 (s′ = 0, x = 1, sits
 /// at t = 1, just beyond t_max = 2^−β), so the 20-point rule's error is ~ρ⁻⁴⁰ ≈ 1e-8 of the
 /// head at worst and ~1e-10 typically; the 28-point value's is ~ρ⁻⁵⁶ ≈ 1e-11.
-pub const HEAD_ORDERS: [usize; 2] = [28, 20];
+const HEAD_ORDERS: [usize; 2] = [28, 20];
 /// The same for a panel in v = ln(1 − x) between two breaks (at most `MAX_LOG_PANEL` long,
 /// its neighbours' singularities at least its own length away or mapped by a square):
 /// ρ ≳ 2.5, so the 16-point estimate is ~ρ⁻³² ≲ 1e-12 and the 24-point value better still.
-pub const LOG_ORDERS: [usize; 2] = [24, 16];
+const LOG_ORDERS: [usize; 2] = [24, 16];
 /// The same for a peak panel (see `MAX_XI`: ρ ≈ 1.66): the 18-point estimate is
 /// ~ρ⁻³⁶ ≈ 1e-8 of the panel, the 24-point value ~ρ⁻⁴⁸ ≈ 3e-11.
 ///
@@ -47,21 +47,21 @@ pub const LOG_ORDERS: [usize; 2] = [24, 16];
 /// x_max 0.1, 0.5 and open): against [32, 24] everywhere they take 23–26% fewer evaluations
 /// of σ_d, agree with it to 1.2e-9 (the adaptive points' own 1e-8 included), and send 0.3–1.4%
 /// of the full-VP points to the adaptive path instead of 0.2–1.0%.
-pub const PEAK_ORDERS: [usize; 2] = [24, 18];
+const PEAK_ORDERS: [usize; 2] = [24, 18];
 /// The same for a panel graded from the soft singularity at x = 0 (v = −v_a sinh ξ, see
 /// `graded_from_zero`): x^(β−1) branches at the panel's own scale, and with √s on a peak
 /// the peak's poles sit there too; [24, 18] missed 1e-8 with √s on a 93 keV peak.
-pub const SOFT_ORDERS: [usize; 2] = [32, 24];
+const SOFT_ORDERS: [usize; 2] = [32, 24];
 /// The same for a panel in v far from the soft singularity (its ρ at least [`PLAIN_RHO`],
 /// see `Panel::soft_rho`) whose interval's neighbouring breaks are at least its length away
 /// (`clear`: ρ ≥ 5.8 for them): the 8-point estimate is ~ρ⁻¹⁶ ≲ 7e-12. On the 10⁴-point
 /// full-VP grids: 9% fewer evaluations (open range), the same points adaptive, agreement
 /// with [`LOG_ORDERS`] everywhere to 7e-11. (Without `clear`, 22% fewer, but a panel next to
 /// a peak just beyond its root end missed its estimate and went adaptive.)
-pub const PLAIN_ORDERS: [usize; 2] = [12, 8];
+const PLAIN_ORDERS: [usize; 2] = [12, 8];
 /// The soft-singularity ρ from which a panel in v takes [`PLAIN_ORDERS`] (at 4, 2.5 times as
 /// many points went adaptive on the grids; 5–8 all gave the same).
-pub const PLAIN_RHO: f64 = 5.0;
+const PLAIN_RHO: f64 = 5.0;
 /// The most breaks (features inside the range) the fixed path of [`Isr::observe`] takes;
 /// more go adaptive. (The breaks live on the stack: a larger array costs every point.)
 const MAX_BREAKS: usize = 40;
@@ -506,10 +506,7 @@ impl<const N: usize> Panels<N> {
             t_max: ln_t_max.exp(),
             ln_t_max,
         });
-        let mut a = Break {
-            x: x0,
-            end: End::Plain,
-        };
+        let mut a = Break::new(x0, End::Plain);
         let at = |i: usize| match i.cmp(&breaks.len()) {
             std::cmp::Ordering::Less => Some(breaks[i]),
             std::cmp::Ordering::Equal => Some(self.last),
@@ -536,35 +533,42 @@ fn graded_from_zero(a: Break, b_x: f64, emit: &mut impl FnMut(Panel)) -> Break {
     if b_x <= 2.0 * a.x {
         return a;
     }
-    let from_zero = |x: f64| {
-        let v = -(-x).ln_1p();
-        Break {
-            x,
-            end: End::Peak {
-                gamma: v,
-                offset: v,
-            },
-        }
+    // Graded from x = 0 (v = 0) on the scale of the start's own distance −v.
+    let from_zero = |b: Break| Break {
+        end: End::Peak {
+            gamma: -b.v,
+            offset: -b.v,
+        },
+        ..b
     };
     match a.end {
-        End::Plain => from_zero(a.x),
+        End::Plain => from_zero(a),
         End::Root => {
-            let doubled = Break {
-                x: 2.0 * a.x,
-                end: End::Plain,
-            };
+            let doubled = Break::new(2.0 * a.x, End::Plain);
             log_panels(a, doubled, [None, None], emit);
-            from_zero(doubled.x)
+            from_zero(doubled)
         }
         End::Peak { .. } => a,
     }
 }
 
-/// A point where σ_d changes character, in x.
+/// A point where σ_d changes character, in x, with v = ln(1 − x) (taken once: the panel
+/// layout asks for it at every interval it bounds or neighbours).
 #[derive(Debug, Clone, Copy)]
 struct Break {
     x: f64,
+    v: f64,
     end: End,
+}
+
+impl Break {
+    fn new(x: f64, end: End) -> Self {
+        Break {
+            x,
+            v: (-x).ln_1p(),
+            end,
+        }
+    }
 }
 
 impl Isr {
@@ -717,22 +721,19 @@ impl Isr {
         let x_int = x_max.min(1.0 - 1e-15);
         // The upper end behaves like a threshold only when the threshold set it.
         let threshold_end = x_max >= 1.0 - s_th / s_gev2 - 1e-12;
-        let mut breaks = [Break {
-            x: 0.0,
-            end: End::Plain,
-        }; N];
+        let mut breaks = [Break::new(0.0, End::Plain); N];
         let panels = collect_breaks(features, s_gev2, x_int, &mut breaks).map(|found| Panels {
             breaks,
             n: found.n,
             at_sqrt_s: found.at_sqrt_s,
-            last: Break {
-                x: x_int,
-                end: match (threshold_end, found.beyond) {
+            last: Break::new(
+                x_int,
+                match (threshold_end, found.beyond) {
                     (true, _) => End::Root,
                     (false, Some(peak)) => peak,
                     (false, None) => End::Plain,
                 },
-            },
+            ),
         });
         Ok(Setup {
             kernel,
@@ -919,7 +920,7 @@ fn collect_breaks<const N: usize>(
         if n == N {
             return None;
         }
-        out[n] = Break { x, end };
+        out[n] = Break::new(x, end);
         n += 1;
     }
     out[..n].sort_unstable_by(|a, b| a.x.total_cmp(&b.x));
@@ -954,14 +955,16 @@ const MAX_PIECES: usize = 8;
 /// pieces no longer than [`MAX_LOG_PANEL`].
 fn log_panels(a: Break, b: Break, beyond: [Option<Break>; 2], emit: &mut impl FnMut(Panel)) {
     // v = ln(1 − x) decreases with x: the lower v end is b.
-    let (lo, hi) = ((-b.x).ln_1p(), (-a.x).ln_1p());
+    let (lo, hi) = (b.v, a.v);
     // Whether the breaks beyond both ends are at least the interval's length away (with a
     // peak's width): only then may its plain pieces take the cheaper rules (`Rules::pair`).
+    // (Distances of order 1 and below: √(a² + b²) without hypot's scaling.)
     let clear = beyond.iter().flatten().all(|n| {
-        let v = (-n.x).ln_1p();
-        let gap = (lo - v).max(v - hi).max(0.0);
+        let gap = (lo - n.v).max(n.v - hi).max(0.0);
         match n.end {
-            End::Peak { gamma, offset } => gap.hypot(gamma.hypot(offset)) >= hi - lo,
+            End::Peak { gamma, offset } => {
+                (gap * gap + gamma * gamma + offset * offset).sqrt() >= hi - lo
+            }
             _ => gap >= EDGE_CLEAR * (hi - lo),
         }
     });
@@ -969,7 +972,9 @@ fn log_panels(a: Break, b: Break, beyond: [Option<Break>; 2], emit: &mut impl Fn
     // least the interval's length away gains nothing from grading: plain rules see ρ ≥ 5.8
     // there. (A far peak beyond x_max used to cost a graded panel of its own.)
     let near = |end: End| match end {
-        End::Peak { gamma, offset } if offset.hypot(gamma) >= hi - lo => End::Plain,
+        End::Peak { gamma, offset } if (offset * offset + gamma * gamma).sqrt() >= hi - lo => {
+            End::Plain
+        }
         other => other,
     };
     let (at_lo, at_hi) = (near(b.end), near(a.end));

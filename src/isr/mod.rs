@@ -11,10 +11,7 @@ mod fsr;
 mod radiator;
 mod spread;
 
-pub use convolve::{
-    HEAD_ORDERS, Isr, LOG_ORDERS, Observed, PEAK_ORDERS, PLAIN_ORDERS, PLAIN_RHO, Radiated,
-    SOFT_ORDERS,
-};
+pub use convolve::{Isr, Observed, Radiated};
 pub use cuts::Cuts;
 pub use fsr::schwinger_factor;
 pub use radiator::{Radiator, Scheme};

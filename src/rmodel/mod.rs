@@ -40,6 +40,7 @@ pub use table::{RTable, TableError};
 
 use crate::constants::{ALPHA, ALPHA_S_MZ, ALPHA_S_MZ_UNC, M_Z_GEV};
 use crate::process::{Feature, RRatio};
+use crate::vp::hadronic::SmoothRule;
 use alpha_s::AlphaS;
 use num_complex::Complex64;
 use params::Parameters;
@@ -271,9 +272,11 @@ impl RModel {
             features,
             edition: params.edition.clone(),
         };
-        model.undress_widths();
+        // Re Π of the smooth R by its dispersion rule (µs a point; the tables come later).
+        let smooth = crate::vp::hadronic::SmoothRule::new(&model);
+        model.undress_widths(&smooth);
         let pdg: Vec<Feature> = model.resonances.iter().map(Resonance::peak).collect();
-        model.undress_poles();
+        model.undress_poles(&smooth);
         // Π peaks at the bare masses (the dressed line shapes at the PDG ones: `Vp` marks those).
         for (old, r) in pdg.iter().zip(&model.resonances) {
             if let Some(f) = model.features.iter_mut().find(|f| *f == old) {
@@ -293,8 +296,7 @@ impl RModel {
     /// are M₀² − iM₀Γ₀ = M² − iMΓ − B/(1 − Π_rest), found by moving the bare pole by the
     /// miss of the resummed one until it is below 10⁻⁶ of the width (two or three steps;
     /// the map is a translation to first order). Γ_ee⁰ is already bare.
-    fn undress_poles(&mut self) {
-        let smooth = crate::vp::hadronic::SmoothRule::new(self);
+    fn undress_poles(&mut self, smooth: &SmoothRule) {
         for i in 0..self.resonances.len() {
             let target = {
                 let r = &self.resonances[i];
@@ -302,7 +304,7 @@ impl RModel {
             };
             let mut bare = target;
             for _ in 0..6 {
-                let pole = self.resummed_pole(i, &smooth);
+                let pole = self.resummed_pole(i, smooth);
                 let miss = target - pole;
                 bare += miss;
                 let r = &mut self.resonances[i];
@@ -315,52 +317,47 @@ impl RModel {
         }
     }
 
-    /// The pole of 1/(1 − Π) near resonance `i`: the zero of g(s) = (1 − Π(s))(s − M₀² +
-    /// iM₀Γ₀), smooth on the scale of M² (its own pole cancels), by two secant steps on the
-    /// real axis continued linearly (as [`crate::vp::Vp::dressed_poles`]). Π is the leptonic
-    /// part, the smooth hadronic part by its dispersion rule and every Breit–Wigner.
-    fn resummed_pole(&self, i: usize, smooth: &crate::vp::hadronic::SmoothRule) -> Complex64 {
+    /// The pole of 1/(1 − Π) near resonance `i` ([`crate::vp::resummed_pole`]), with Π the
+    /// leptonic part, the smooth hadronic part (its imaginary part from R) and every
+    /// Breit–Wigner.
+    fn resummed_pole(&self, i: usize, smooth: &SmoothRule) -> Complex64 {
         let r = &self.resonances[i];
-        let (m2, mg) = (r.mass_gev * r.mass_gev, r.mass_gev * r.width_gev);
         let pi = |s: f64| {
-            let mut pi = crate::vp::leptonic::pi_leptonic(s);
-            pi.re += smooth.re(self, s);
+            let mut pi = self.pi_without(s, smooth, None);
             if s > self.s_threshold() {
                 pi.im -= ALPHA / 3.0 * self.r_smooth(s);
             }
-            for bw in &self.resonances {
-                pi += crate::vp::hadronic::pi_breit_wigner(bw, s);
-            }
             pi
         };
-        let g = |s: f64| (1.0 - pi(s)) * Complex64::new(s - m2, mg);
-        let secant = |s1: f64, s2: f64| {
-            let (g1, g2) = (g(s1), g(s2));
-            s1 - g1 * (s2 - s1) / (g2 - g1)
-        };
-        let first = secant(m2, m2 + 16.0 * mg);
-        secant(first.re, first.re + 4.0 * mg)
+        crate::vp::resummed_pole(pi, r.mass_gev * r.mass_gev, r.mass_gev * r.width_gev)
     }
 
     /// Replace each PDG Γ_ee by the bare Γ_ee⁰ = Γ_ee·|1 − Π(M²)|², with Π the leptonic,
     /// smooth hadronic and other resonances' parts at M² (physics.md §2).
-    fn undress_widths(&mut self) {
-        let dressed = self.resonances.clone();
-        let factors: Vec<f64> = dressed
-            .iter()
-            .map(|r| {
-                let m2 = r.mass_gev * r.mass_gev;
-                let mut pi = crate::vp::leptonic::pi_leptonic(m2);
-                pi.re += crate::vp::hadronic::smooth_re_direct(self, m2).value;
-                for other in dressed.iter().filter(|o| o.name != r.name) {
-                    pi += crate::vp::hadronic::pi_breit_wigner(other, m2);
-                }
-                (1.0 - pi).norm_sqr()
+    fn undress_widths(&mut self, smooth: &SmoothRule) {
+        let factors: Vec<f64> = (0..self.resonances.len())
+            .map(|i| {
+                let m = self.resonances[i].mass_gev;
+                let m2 = m * m;
+                (1.0 - self.pi_without(m2, smooth, Some(i))).norm_sqr()
             })
             .collect();
         for (r, f) in self.resonances.iter_mut().zip(factors) {
             r.gamma_ee_bare_gev *= f;
         }
+    }
+
+    /// Π(s) of the leptons, the real part of the smooth hadronic R and the Breit–Wigners but
+    /// `skip`, as the undressing needs it.
+    fn pi_without(&self, s: f64, smooth: &SmoothRule, skip: Option<usize>) -> Complex64 {
+        let mut pi = crate::vp::leptonic::pi_leptonic(s);
+        pi.re += smooth.re(self, s);
+        for (j, bw) in self.resonances.iter().enumerate() {
+            if Some(j) != skip {
+                pi += crate::vp::hadronic::pi_breit_wigner(bw, s);
+            }
+        }
+        pi
     }
 
     /// This model with `region` shifted by `n_sigma` standard deviations.

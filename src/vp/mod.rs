@@ -26,6 +26,20 @@ pub use running::{Vp, VpChoice, standard_hadronic};
 use crate::process::Feature;
 use num_complex::Complex64;
 
+/// The pole of 1/(1 − Π) near a Breit–Wigner inside Π with parameters M², MΓ: the zero of
+/// g(s) = (1 − Π(s))(s − M² + iMΓ), which is smooth on the scale of M² (the resonance's own
+/// pole cancels), by two secant steps on the real axis continued linearly (g is linear there
+/// to ~10⁻⁶ of a width). `pi` is Π(s + i0) on the real axis.
+pub(crate) fn resummed_pole(pi: impl Fn(f64) -> Complex64, m2: f64, mg: f64) -> Complex64 {
+    let g = |s: f64| (1.0 - pi(s)) * Complex64::new(s - m2, mg);
+    let secant = |s1: f64, s2: f64| {
+        let (g1, g2) = (g(s1), g(s2));
+        s1 - g1 * (s2 - s1) / (g2 - g1)
+    };
+    let first = secant(m2, m2 + 16.0 * mg);
+    secant(first.re, first.re + 4.0 * mg)
+}
+
 /// A model of the photon vacuum polarisation Π(q²).
 pub trait Polarisation: Sync + Send {
     /// Π(q² + i0): real for q² ≤ 0 (spacelike), complex above timelike thresholds.

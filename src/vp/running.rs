@@ -163,13 +163,7 @@ impl Vp {
         let mut out = Vec::new();
         for r in h.model().resonances() {
             let (m2, mg) = (r.mass_gev * r.mass_gev, r.mass_gev * r.width_gev);
-            let g = |s: f64| (1.0 - self.pi(s)) * Complex64::new(s - m2, mg);
-            let secant = |s1: f64, s2: f64| {
-                let (g1, g2) = (g(s1), g(s2));
-                s1 - g1 * (s2 - s1) / (g2 - g1)
-            };
-            let first = secant(m2, m2 + 16.0 * mg);
-            let pole = secant(first.re, first.re + 4.0 * mg);
+            let pole = super::resummed_pole(|s| self.pi(s), m2, mg);
             let shift = pole.re - m2;
             if pole.re > 0.0 && pole.is_finite() && shift.abs() > 0.5 * pole.im.abs() {
                 out.push((
