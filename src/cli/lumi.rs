@@ -266,7 +266,7 @@ pub fn run(args: LumiArgs) -> Result<()> {
                 .map(|(i, (r, l))| {
                     let mut b = Row::new();
                     for s in budget.sources() {
-                        b = b.num(&format!("{}_nb_inv", s.name), s.shifts[i]);
+                        b = b.num(format!("{}_nb_inv", s.name), s.shifts[i]);
                     }
                     let syst = budget
                         .sources()
@@ -312,7 +312,7 @@ pub fn run(args: LumiArgs) -> Result<()> {
                     Correlation::Full => s.shifts.iter().sum::<f64>().abs(),
                     Correlation::None => s.shifts.iter().map(|d| d * d).sum::<f64>().sqrt(),
                 };
-                sum_budget = sum_budget.num(&format!("{}_nb_inv", s.name), v);
+                sum_budget = sum_budget.num(format!("{}_nb_inv", s.name), v);
             }
             let summary = Row::new()
                 .int("runs", runs.len() as i64)
@@ -346,7 +346,7 @@ pub fn run(args: LumiArgs) -> Result<()> {
 fn sigma_row(plan: &LumiPlan, p: &Prediction) -> Row {
     let mut b = Row::new();
     for s in &p.shifts {
-        b = b.num(&format!("{}_nb", s.name), s.shift_nb);
+        b = b.num(format!("{}_nb", s.name), s.shift_nb);
     }
     Row::new()
         .text("process", plan.channel.key())

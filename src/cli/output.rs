@@ -9,6 +9,7 @@
 use anyhow::{Result, bail};
 use clap::ValueEnum;
 use serde_json::{Map, Value};
+use std::borrow::Cow;
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
 
@@ -44,35 +45,43 @@ pub struct OutputArgs {
     pub units: Units,
 }
 
-/// One output point: an ordered map of keys to values.
+/// One output point: keys in order with their values (a nested object is a
+/// `Value::Object`). A plain list rather than a map: a grid builds 10⁴ of them, and the
+/// keys are almost always literals.
 #[derive(Debug, Clone, Default)]
-pub struct Row(pub Map<String, Value>);
+pub struct Row(Vec<(Cow<'static, str>, Value)>);
 
 impl Row {
     pub fn new() -> Self {
-        Row(Map::new())
+        Row(Vec::new())
     }
 
-    pub fn num(mut self, key: &str, v: f64) -> Self {
-        self.0.insert(key.to_string(), num_value(v));
+    /// A row from an already-built JSON object (the table writer's rows).
+    pub fn from_map(map: Map<String, Value>) -> Self {
+        Row(map.into_iter().map(|(k, v)| (Cow::Owned(k), v)).collect())
+    }
+
+    fn put(mut self, key: impl Into<Cow<'static, str>>, v: Value) -> Self {
+        self.0.push((key.into(), v));
         self
     }
 
-    pub fn text(mut self, key: &str, v: impl Into<String>) -> Self {
-        self.0.insert(key.to_string(), Value::String(v.into()));
-        self
+    pub fn num(self, key: impl Into<Cow<'static, str>>, v: f64) -> Self {
+        self.put(key, num_value(v))
+    }
+
+    pub fn text(self, key: impl Into<Cow<'static, str>>, v: impl Into<String>) -> Self {
+        self.put(key, Value::String(v.into()))
     }
 
     #[allow(dead_code, reason = "used by the commands that report counts")]
-    pub fn int(mut self, key: &str, v: i64) -> Self {
-        self.0.insert(key.to_string(), Value::from(v));
-        self
+    pub fn int(self, key: impl Into<Cow<'static, str>>, v: i64) -> Self {
+        self.put(key, Value::from(v))
     }
 
     #[allow(dead_code, reason = "used by the commands that report switches")]
-    pub fn flag(mut self, key: &str, v: bool) -> Self {
-        self.0.insert(key.to_string(), Value::Bool(v));
-        self
+    pub fn flag(self, key: impl Into<Cow<'static, str>>, v: bool) -> Self {
+        self.put(key, Value::Bool(v))
     }
 
     /// A nested object (a breakdown, a budget) inside this point's object.
@@ -80,9 +89,19 @@ impl Row {
         dead_code,
         reason = "used by the commands that report breakdowns and budgets"
     )]
-    pub fn nested(mut self, key: &str, v: Row) -> Self {
-        self.0.insert(key.to_string(), Value::Object(v.0));
-        self
+    pub fn nested(self, key: impl Into<Cow<'static, str>>, v: Row) -> Self {
+        self.put(key, Value::Object(v.into_map()))
+    }
+
+    fn into_map(self) -> Map<String, Value> {
+        self.0
+            .into_iter()
+            .map(|(k, v)| (k.into_owned(), v))
+            .collect()
+    }
+
+    fn to_map(&self) -> Map<String, Value> {
+        self.clone().into_map()
     }
 }
 
@@ -138,9 +157,12 @@ pub fn emit(report: Report, args: &OutputArgs, inputs: &[&Path], single: bool) -
 /// Render to a string. `single` picks the one-object JSON shape for a one-point result.
 pub fn render(mut report: Report, format: Format, units: Units, single: bool) -> Result<String> {
     for row in report.rows.iter_mut().chain(report.summary.iter_mut()) {
-        check_finite(&row.0, "")?;
+        check_finite(row.entries(), "")?;
         if units == Units::Pb {
-            row.0 = to_pb(std::mem::take(&mut row.0));
+            row.0 = std::mem::take(&mut row.0)
+                .into_iter()
+                .map(|(k, v)| to_pb(k, v))
+                .collect();
         }
     }
     match format {
@@ -150,121 +172,164 @@ pub fn render(mut report: Report, format: Format, units: Units, single: bool) ->
     }
 }
 
-fn check_finite(map: &Map<String, Value>, prefix: &str) -> Result<()> {
-    for (k, v) in map {
+impl Row {
+    fn entries(&self) -> impl Iterator<Item = (&str, &Value)> {
+        self.0.iter().map(|(k, v)| (k.as_ref(), v))
+    }
+}
+
+fn object_entries(map: &Map<String, Value>) -> impl Iterator<Item = (&str, &Value)> {
+    map.iter().map(|(k, v)| (k.as_str(), v))
+}
+
+fn check_finite<'a>(
+    entries: impl Iterator<Item = (&'a str, &'a Value)>,
+    prefix: &str,
+) -> Result<()> {
+    for (k, v) in entries {
         match v {
             Value::Null => bail!(
                 "internal error: the value of {prefix}{k} is not a finite number; nothing was written"
             ),
-            Value::Object(inner) => check_finite(inner, &format!("{prefix}{k}."))?,
+            Value::Object(inner) => check_finite(object_entries(inner), &format!("{prefix}{k}."))?,
             _ => {}
         }
     }
     Ok(())
 }
 
-/// Rename `*_nb` keys to `*_pb` (×1000) and `*_nb_inv` to `*_pb_inv` (÷1000), recursively.
-fn to_pb(map: Map<String, Value>) -> Map<String, Value> {
-    map.into_iter()
-        .map(|(k, v)| {
-            let scale = |v: Value, f: f64| match v.as_f64() {
-                Some(x) => num_value(x * f),
-                None => v,
-            };
-            if let Some(stem) = k.strip_suffix("_nb_inv") {
-                (format!("{stem}_pb_inv"), scale(v, 1e-3))
-            } else if let Some(stem) = k.strip_suffix("_nb") {
-                (format!("{stem}_pb"), scale(v, 1e3))
-            } else if let Value::Object(inner) = v {
-                (k, Value::Object(to_pb(inner)))
-            } else {
-                (k, v)
-            }
-        })
-        .collect()
+/// Rename a `*_nb` key to `*_pb` (×1000) and `*_nb_inv` to `*_pb_inv` (÷1000), recursively.
+fn to_pb<K: AsRef<str> + From<String>>(k: K, v: Value) -> (K, Value) {
+    let scale = |v: Value, f: f64| match v.as_f64() {
+        Some(x) => num_value(x * f),
+        None => v,
+    };
+    if let Some(stem) = k.as_ref().strip_suffix("_nb_inv") {
+        (format!("{stem}_pb_inv").into(), scale(v, 1e-3))
+    } else if let Some(stem) = k.as_ref().strip_suffix("_nb") {
+        (format!("{stem}_pb").into(), scale(v, 1e3))
+    } else if let Value::Object(inner) = v {
+        let inner = inner.into_iter().map(|(k, v)| to_pb(k, v)).collect();
+        (k, Value::Object(inner))
+    } else {
+        (k, v)
+    }
 }
 
 fn render_json(report: &Report, single: bool) -> String {
+    let rows = || {
+        Value::Array(
+            report
+                .rows
+                .iter()
+                .map(|r| Value::Object(r.to_map()))
+                .collect(),
+        )
+    };
     let value = match (&report.summary, single, report.rows.as_slice()) {
-        (Some(summary), _, rows) => {
+        (Some(summary), _, _) => {
             let mut m = Map::new();
-            m.insert(
-                "rows".into(),
-                Value::Array(rows.iter().map(|r| Value::Object(r.0.clone())).collect()),
-            );
-            m.insert("summary".into(), Value::Object(summary.0.clone()));
+            m.insert("rows".into(), rows());
+            m.insert("summary".into(), Value::Object(summary.to_map()));
             Value::Object(m)
         }
-        (None, true, [one]) => Value::Object(one.0.clone()),
-        (None, _, rows) => Value::Array(rows.iter().map(|r| Value::Object(r.0.clone())).collect()),
+        (None, true, [one]) => Value::Object(one.to_map()),
+        (None, _, _) => rows(),
     };
     let mut s = serde_json::to_string_pretty(&value).unwrap_or_default();
     s.push('\n');
     s
 }
 
-/// Flatten nested objects into `parent.child` keys, in order.
-fn flatten(map: &Map<String, Value>, prefix: &str, out: &mut Vec<(String, Value)>) {
-    for (k, v) in map {
-        let key = format!("{prefix}{k}");
+/// Visit the leaves of nested objects in order with their `parent.child` keys (built in
+/// `prefix`, which is restored on return).
+fn for_each_leaf<'a>(
+    entries: impl Iterator<Item = (&'a str, &'a Value)>,
+    prefix: &mut String,
+    visit: &mut impl FnMut(&str, &'a Value),
+) {
+    for (k, v) in entries {
+        let len = prefix.len();
+        prefix.push_str(k);
         match v {
-            Value::Object(inner) => flatten(inner, &format!("{key}."), out),
-            other => out.push((key, other.clone())),
+            Value::Object(inner) => {
+                prefix.push('.');
+                for_each_leaf(object_entries(inner), prefix, visit);
+            }
+            leaf => visit(prefix, leaf),
+        }
+        prefix.truncate(len);
+    }
+}
+
+/// A row's leaves as (flattened key, value).
+fn flatten(row: &Row) -> Vec<(String, &Value)> {
+    let mut out = Vec::new();
+    for_each_leaf(row.entries(), &mut String::new(), &mut |k, v| {
+        out.push((k.to_string(), v))
+    });
+    out
+}
+
+/// Append a value as a CSV cell (numbers in JSON's shortest round-trip form).
+fn write_cell(s: &mut String, v: &Value) {
+    match v {
+        Value::String(t) => s.push_str(&csv_field(t)),
+        Value::Number(n) => {
+            let _ = write!(s, "{n}");
+        }
+        other => {
+            let _ = write!(s, "{other}");
         }
     }
 }
 
+/// A value as plain text (strings unquoted).
 fn cell(v: &Value) -> String {
     match v {
         Value::String(s) => s.clone(),
-        Value::Number(n) => n.to_string(),
         other => other.to_string(),
     }
 }
 
 fn render_csv(report: &Report) -> String {
-    let mut s = String::new();
+    let mut s = String::with_capacity(64 * (report.rows.len() + 1) * 12);
     for line in &report.provenance {
         let _ = writeln!(s, "# {line}");
     }
-    let mut write_table = |rows: &[&Row]| {
-        let mut header: Vec<String> = Vec::new();
-        let mut lines = Vec::with_capacity(rows.len());
-        for row in rows {
-            let mut flat = Vec::new();
-            flatten(&row.0, "", &mut flat);
-            if header.is_empty() {
-                header = flat.iter().map(|(k, _)| k.clone()).collect();
-            }
-            lines.push(
-                flat.iter()
-                    .map(|(_, v)| csv_field(&cell(v)))
-                    .collect::<Vec<_>>()
-                    .join(","),
-            );
-        }
-        let _ = writeln!(s, "{}", header.join(","));
-        for l in lines {
-            let _ = writeln!(s, "{l}");
-        }
-    };
-    write_table(&report.rows.iter().collect::<Vec<_>>());
+    let mut prefix = String::new();
+    if let Some(first) = report.rows.first() {
+        let mut sep = "";
+        for_each_leaf(first.entries(), &mut prefix, &mut |k, _| {
+            s.push_str(sep);
+            s.push_str(k);
+            sep = ",";
+        });
+        s.push('\n');
+    }
+    for row in &report.rows {
+        let mut sep = "";
+        for_each_leaf(row.entries(), &mut prefix, &mut |_, v| {
+            s.push_str(sep);
+            write_cell(&mut s, v);
+            sep = ",";
+        });
+        s.push('\n');
+    }
     if let Some(summary) = &report.summary {
         s.push_str("# summary\n");
-        let mut flat = Vec::new();
-        flatten(&summary.0, "", &mut flat);
-        for (k, v) in flat {
-            let _ = writeln!(s, "# {k},{}", cell(&v));
+        for (k, v) in flatten(summary) {
+            let _ = writeln!(s, "# {k},{}", cell(v));
         }
     }
     s
 }
 
-fn csv_field(s: &str) -> String {
+fn csv_field(s: &str) -> Cow<'_, str> {
     if s.contains([',', '"', '\n']) {
-        format!("\"{}\"", s.replace('"', "\"\""))
+        Cow::Owned(format!("\"{}\"", s.replace('"', "\"\"")))
     } else {
-        s.to_string()
+        Cow::Borrowed(s)
     }
 }
 
@@ -309,11 +374,7 @@ fn text_cell(v: &Value) -> String {
 
 fn render_text(report: &Report) -> String {
     let mut s = String::new();
-    let columns = |row: &Row| {
-        let mut flat = Vec::new();
-        flatten(&row.0, "", &mut flat);
-        flat
-    };
+    let columns = flatten;
     if report.rows.len() == 1 {
         // One point: a key/value list reads better than a one-line table.
         let flat = columns(&report.rows[0]);
@@ -361,7 +422,7 @@ fn render_text(report: &Report) -> String {
     if let Some(summary) = &report.summary {
         s.push_str("\nsummary\n");
         for (k, v) in columns(summary) {
-            let _ = writeln!(s, "  {}  {}", header_with_unit(&k), text_cell(&v));
+            let _ = writeln!(s, "  {}  {}", header_with_unit(&k), text_cell(v));
         }
     }
     for line in report.provenance.iter().skip(1) {
@@ -405,10 +466,9 @@ mod tests {
 
     #[test]
     fn csv_flattens_nested_keys() {
-        let mut inner = Map::new();
-        inner.insert("stat".into(), Value::from(0.5));
-        let mut row = Row::new().num("a_nb", 1.0);
-        row.0.insert("budget".into(), Value::Object(inner));
+        let row = Row::new()
+            .num("a_nb", 1.0)
+            .nested("budget", Row::new().num("stat", 0.5));
         let r = Report::new(vec![row]);
         let s = render(r, Format::Csv, Units::Nb, false).unwrap();
         assert!(s.lines().any(|l| l == "a_nb,budget.stat"));

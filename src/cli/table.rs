@@ -271,7 +271,7 @@ fn write_table(
         }
         TableFormat::Json => json_text(prov, &maps, Some(&summary(plan, rows.len(), shard)))?,
         TableFormat::Text => {
-            let mut report = Report::new(maps.into_iter().map(Row).collect());
+            let mut report = Report::new(maps.into_iter().map(Row::from_map).collect());
             for line in &prov.notes {
                 report = report.note(line.clone());
             }
