@@ -7,7 +7,7 @@ use rayon::prelude::*;
 
 use super::output::{OutputArgs, Report, Row, emit};
 use super::{flag_error, parse_energy_grid};
-use radnorm::isr::{Cuts, Isr, IsrError, Radiated, Scheme, Smeared, schwinger_factor};
+use radnorm::isr::{Cuts, Isr, IsrError, Observed, Radiated, Scheme, Smeared, schwinger_factor};
 use radnorm::process::{ConstantR, CrossSection, FermionPair, Hadrons, RRatio};
 use radnorm::rmodel::RModel;
 use radnorm::vp::{Dressed, Polarisation, Vp, VpChoice};
@@ -179,9 +179,26 @@ pub fn run(args: IsrArgs) -> Result<()> {
     }
     notes.push(format!("constants: {}", radnorm::constants::EDITIONS));
 
-    let point = |sqrt_s: f64| -> Result<Row> {
-        let s = sqrt_s * sqrt_s;
-        let observed = isr.observe(&dressed, s).map_err(|e| isr_error(e, &args))?;
+    // σ_obs for the whole grid at once (nearby energies share the far part of the
+    // integral), for the chosen radiator and, when compared, for each scheme.
+    let s_values: Vec<f64> = grid.points().iter().map(|e| e * e).collect();
+    let observe_all = |isr: Isr| -> Result<Vec<Observed>> {
+        isr.observe_many(&dressed, &s_values)
+            .into_iter()
+            .map(|r| r.map_err(|e| isr_error(e, &args)))
+            .collect()
+    };
+    let observed = observe_all(isr)?;
+    let compared: Vec<(Scheme, Vec<Observed>)> = if args.compare_radiators {
+        Scheme::ALL
+            .iter()
+            .map(|&other| Ok((other, observe_all(isr.with_scheme(other))?)))
+            .collect::<Result<_>>()?
+    } else {
+        Vec::new()
+    };
+    let point = |i: usize| -> Result<Row> {
+        let (sqrt_s, s, observed) = (grid.points()[i], s_values[i], &observed[i]);
         let sigma_dressed = dressed.sigma_nb(s);
         let ratio = |obs: f64| {
             if sigma_dressed > 0.0 {
@@ -219,12 +236,8 @@ pub fn run(args: IsrArgs) -> Result<()> {
         if args.compare_radiators {
             let mut nested = Row::new();
             let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
-            for other in Scheme::ALL {
-                let o = isr
-                    .with_scheme(other)
-                    .observe(&dressed, s)
-                    .map_err(|e| isr_error(e, &args))?;
-                let r = ratio(o.sigma_nb);
+            for (other, obs) in &compared {
+                let r = ratio(obs[i].sigma_nb);
                 lo = lo.min(r);
                 hi = hi.max(r);
                 nested = nested.num(other.key(), r);
@@ -233,10 +246,9 @@ pub fn run(args: IsrArgs) -> Result<()> {
         }
         Ok(row)
     };
-    let rows = grid
-        .points()
-        .par_iter()
-        .map(|&e| point(e))
+    let rows = (0..s_values.len())
+        .into_par_iter()
+        .map(point)
         .collect::<Result<Vec<Row>>>()?;
     let mut report = Report::new(rows);
     for n in notes {

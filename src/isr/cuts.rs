@@ -57,16 +57,15 @@ impl Cuts {
     /// # Errors
     /// A minimum mass at or above √s.
     pub fn x_limit(&self, s_gev2: f64, threshold_s_gev2: f64) -> Result<f64, IsrError> {
-        let mut x = 1.0 - threshold_s_gev2.max(0.0) / s_gev2;
-        if let Some(m) = self.min_mass_gev {
-            if m * m >= s_gev2 {
-                return Err(IsrError::MinMassAboveEnergy {
-                    min_mass_gev: m,
-                    sqrt_s_gev: s_gev2.sqrt(),
-                });
-            }
-            x = x.min(1.0 - m * m / s_gev2);
+        if let Some(m) = self.min_mass_gev
+            && m * m >= s_gev2
+        {
+            return Err(IsrError::MinMassAboveEnergy {
+                min_mass_gev: m,
+                sqrt_s_gev: s_gev2.sqrt(),
+            });
         }
+        let mut x = self.x_limit_without_upper(s_gev2, threshold_s_gev2);
         if let Some(xm) = self.x_max {
             x = x.min(xm);
         }
@@ -74,6 +73,16 @@ impl Cuts {
             x = x.min(2.0 * e / s_gev2.sqrt());
         }
         Ok(x.clamp(0.0, 1.0))
+    }
+
+    /// The limit set by the threshold and the minimum mass alone (a fixed lowest s′),
+    /// before the x_max and photon-energy cuts.
+    pub(super) fn x_limit_without_upper(&self, s_gev2: f64, threshold_s_gev2: f64) -> f64 {
+        let s_low = match self.min_mass_gev {
+            Some(m) => threshold_s_gev2.max(m * m),
+            None => threshold_s_gev2.max(0.0),
+        };
+        1.0 - s_low / s_gev2
     }
 }
 

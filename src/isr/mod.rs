@@ -8,6 +8,7 @@
 mod convolve;
 mod cuts;
 mod fsr;
+mod grid;
 mod radiator;
 mod spread;
 
