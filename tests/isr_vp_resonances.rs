@@ -244,12 +244,12 @@ fn the_vp_marks_each_narrow_resonance_at_the_pole_of_the_dressed_factor() {
 
 #[test]
 fn a_dense_grid_shares_the_far_part_and_agrees_point_by_point() {
-    // `Isr::observe_many` on runs of ≥ 40 energies splits s′ below each run and
-    // interpolates the far part in s (Chebyshev, 20 nodes). Checked here, on grids whose
-    // far parts hold every narrow resonance and threshold below them, against the
-    // tanh–sinh reference of each sampled point over the whole range (the open range down
-    // to the μμ threshold, and a minimum-mass cut), and against the point-by-point path.
-    // Measured: ≤ 2.2e-12 from the reference, ≤ 7e-12 from the point alone.
+    // `Isr::observe_many` interpolates, on runs of ≥ 40 energies, either σ_obs itself (a
+    // run clear of σ_d's structures by half its length: the first grid) or the part from
+    // s′ below the run (near structures: the Υ(3S) and the open-bottom edge at 10.56 GeV,
+    // the open-charm edge at 4.19 GeV), from 20 Chebyshev nodes. Checked here against the
+    // tanh–sinh reference of sampled points over the whole range (the open range down to
+    // the μμ threshold, and a minimum-mass cut), and against the point-by-point path.
     let dressed = Dressed::new(FermionPair::muon(), Vp::full());
     let peaks = dressed_peaks(&dressed);
     let grid = |lo: f64, hi: f64, n: usize| -> Vec<f64> {
@@ -267,12 +267,12 @@ fn a_dense_grid_shares_the_far_part_and_agrees_point_by_point() {
             grid(3.3, 3.45, 200),
         ),
         (
-            "open range, √s 10.6–11.1 GeV (Υ(1S–3S), ψ's, open charm far)",
+            "open range, √s 10.6–11.1 GeV (open-bottom edge inside)",
             Cuts::NONE,
             grid(10.6, 11.1, 200),
         ),
         (
-            "√s′ ≥ 3 GeV, √s 4.1–4.3 GeV (J/ψ, ψ(2S), charm edges far)",
+            "√s′ ≥ 3 GeV, √s 4.1–4.3 GeV (open-charm edge inside)",
             Cuts::NONE.with_min_mass_gev(3.0).unwrap(),
             grid(4.1, 4.3, 200),
         ),
@@ -286,8 +286,8 @@ fn a_dense_grid_shares_the_far_part_and_agrees_point_by_point() {
             let at = format!("{what}, √s = {:.5} GeV", s.sqrt());
             assert_eq!(got.status, Status::Converged, "{at}: {got:?}");
             assert!(got.error_nb <= 1e-8 * got.sigma_nb, "{at}: {got:?}");
-            // The shared far part is what makes the grid cheap: fewer than half the
-            // evaluations of the point alone (measured: a fifth to a third).
+            // The shared part is what makes the grid cheap: fewer than half the
+            // evaluations of the point alone.
             assert!(
                 2 * got.evaluations < alone.evaluations,
                 "{at}: {} evaluations vs {} alone: the run was not shared",

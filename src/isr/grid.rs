@@ -1,25 +1,33 @@
 //! σ_obs at many energies at once, sharing the work the energies have in common.
 //!
-//! Where the lower end of s′ is the same for every energy of a run (the threshold or a
-//! minimum-mass cut sets it, not an x_max or photon-energy cut), split s′ at s_c below the
-//! run: σ_obs(s) = near(s) + far(s), near from s′ ∈ [s_c, s] and
+//! Both ways below need the lowest s′ to be the same for every energy of a run (the
+//! threshold or a minimum-mass cut sets it, not an x_max or photon-energy cut, whose
+//! lowest s′ sweeps across σ_d's structures as s moves).
 //!
-//!   far(s) = ∫_{s_low}^{s_c} F(1 − s′/s, s) σ_d(s′) ds′/s.
+//! **Whole runs.** σ_obs(s) inherits σ_d's singularities at s (a peak's pole, an edge) and
+//! has branch points at s = 0 and at the lowest s′; elsewhere it is analytic (the
+//! convolution smooths every structure of σ_d below s). On a run of energies that lies at
+//! least [`CLEARANCE`] of its length away from all of them, σ_obs is analytic on the
+//! Bernstein ellipse of ρ ≥ 2 + √3 around it, and its Chebyshev interpolant from [`NODES`]
+//! values converges like ρ⁻ⁿ (Trefethen, *Approximation Theory and Approximation
+//! Practice*, 2013, Thm. 8.2): the run costs [`NODES`] integrals, whatever its length.
 //!
-//! For s above s_c, F(1 − s′/s, s) is analytic in s (its singularities sit at s = s′ ≤ s_c),
-//! so far(s) is analytic on the run and its Chebyshev interpolant from [`NODES`] values
-//! converges geometrically: with the run's s ∈ [s_a, s_a(1 + [`RUN_SPAN`])] and
-//! s_c ≈ s_a/(1 + [`SPLIT_GAP`]) the nearest singularity gives a Bernstein ρ ≈ 3.6 on the run,
-//! ρ⁻²⁰ ≈ 7e-12 (Trefethen, *Approximation Theory and Approximation Practice*, 2013,
-//! Thm. 8.2). The far part, the expensive one over every resonance and threshold below s_c,
-//! is then paid [`NODES`] times per run instead of once per energy; the near part is an
-//! ISR integral up to x ≈ 0.05–0.15 per energy.
+//! **Split runs**, near σ_d's structures: s′ is split at s_c below the run,
+//! σ_obs(s) = near(s) + far(s), near from s′ ∈ [s_c, s] and
 //!
-//! The error of a point is the near part's estimate, the largest of the far values' own
-//! estimates, and the interpolant's: the size of its last two Chebyshev coefficients
-//! (they decay as ρ⁻ʲ; the truncation is of the order of the first one left out: common
-//! practice, e.g. Trefethen 2013, ch. 8). A point whose total misses the accuracy target,
-//! and every point of a run too short to pay for its nodes, is integrated on its own.
+//!   far(s) = ∫_{s_low}^{s_c} F(1 − s′/s, s) σ_d(s′) ds′/s,
+//!
+//! analytic for s above s_c (its singularities sit at s = s′ ≤ s_c). With the run's
+//! s ∈ [s_a, s_a(1 + [`RUN_SPAN`])] and s_c ≈ s_a/(1 + [`SPLIT_GAP`]), the nearest gives
+//! ρ ≈ 3.6 on the run, ρ⁻²⁰ ≈ 7e-12. The far part, over every resonance and threshold
+//! below s_c, is paid [`NODES`] times per run; each energy pays its near part (x up to
+//! ≈ 0.05–0.15).
+//!
+//! The error of a point is its integrals' estimates (the largest at the nodes) and the
+//! interpolant's: the size of its last two Chebyshev coefficients (they decay as ρ⁻ʲ; the
+//! truncation is of the order of the first one left out: common practice, e.g. Trefethen
+//! 2013, ch. 8). A point that misses the accuracy target, and every point of a run too
+//! short to pay for its nodes, is integrated on its own.
 
 use super::{Isr, IsrError, Observed};
 use crate::numeric::Status;
@@ -40,6 +48,9 @@ const MIN_RUN: usize = 2 * NODES;
 const EDGE_CLEARANCE: f64 = 0.01;
 /// ... and this many widths from any peak.
 const PEAK_CLEARANCE_WIDTHS: f64 = 64.0;
+/// A whole run keeps this many of its lengths from every singularity of σ_obs (an edge
+/// half a length beyond an end: z = 2, ρ = 2 + √3, ρ⁻²⁰ ≈ 4e-12).
+const CLEARANCE: f64 = 0.5;
 
 impl Isr {
     /// σ_obs at every s of `s_gev2` (any order), each as [`Isr::observe`] would give it
@@ -57,13 +68,10 @@ impl Isr {
         let mut out: Vec<Option<Result<Observed, IsrError>>> = vec![None; s_gev2.len()];
         let done: Vec<Vec<(usize, Result<Observed, IsrError>)>> = runs
             .par_iter()
-            .map(|run| match run.split {
-                Some(s_c) => self.observe_run(sigma, s_gev2, &run.points, s_c),
-                None => run
-                    .points
-                    .par_iter()
-                    .map(|&i| (i, self.observe(sigma, s_gev2[i])))
-                    .collect(),
+            .map(|run| match run.kind {
+                Kind::Whole => self.observe_whole(sigma, s_gev2, &run.points),
+                Kind::Split { s_c } => self.observe_split(sigma, s_gev2, &run.points, s_c),
+                Kind::Alone => self.observe_alone(sigma, s_gev2, &run.points),
             })
             .collect();
         for (i, r) in done.into_iter().flatten() {
@@ -75,11 +83,11 @@ impl Isr {
             .collect()
     }
 
-    /// The energies (indices in increasing s) cut into runs, each with its split s_c where
-    /// sharing pays.
+    /// The energies (indices in increasing s) cut into runs: whole where a long enough
+    /// one keeps clear of σ_obs's singularities, else split where the split pays, else alone.
     fn runs<C: CrossSection + ?Sized>(&self, sigma: &C, s: &[f64], order: &[usize]) -> Vec<Run> {
         let th = sigma.threshold_s_gev2().max(0.0);
-        // The lower end of s′ at s where no x_max or photon cut binds; None otherwise.
+        // The lowest s′ at s where no x_max or photon cut binds; None otherwise.
         let fixed_low = |s: f64| -> Option<f64> {
             let x = self.cuts().x_limit(s, th).ok()?;
             let open = self.cuts().x_limit_without_upper(s, th);
@@ -89,61 +97,132 @@ impl Isr {
         let mut k = 0;
         while k < order.len() {
             let s_a = s[order[k]];
-            let end = s_a * (1.0 + RUN_SPAN);
-            let mut n = order[k..].iter().take_while(|&&i| s[i] <= end).count();
-            let low = fixed_low(s_a);
-            let split = low.and_then(|low| {
-                // The run's points must share the lower end.
-                n = order[k..k + n]
+            let Some(low) = fixed_low(s_a) else {
+                runs.push(Run {
+                    points: vec![order[k]],
+                    kind: Kind::Alone,
+                });
+                k += 1;
+                continue;
+            };
+            // The points from s_a up to `end` that share the lowest s′.
+            let take = |end: f64| {
+                order[k..]
                     .iter()
                     .take_while(|&&i| {
-                        fixed_low(s[i]).is_some_and(|l| (l - low).abs() <= 1e-9 * low)
+                        s[i] <= end
+                            && fixed_low(s[i]).is_some_and(|l| (l - low).abs() <= 1e-9 * low)
                     })
-                    .count();
-                clear_split(sigma.features(), s_a / (1.0 + SPLIT_GAP), low)
-            });
-            let n = n.max(1);
+                    .count()
+            };
+            let whole = take(clear_reach(sigma.features(), low, s_a));
+            let (n, kind) = if whole >= MIN_RUN {
+                (whole, Kind::Whole)
+            } else {
+                let n = take(s_a * (1.0 + RUN_SPAN)).max(1);
+                match clear_split(sigma.features(), s_a / (1.0 + SPLIT_GAP), low) {
+                    Some(s_c) if n >= MIN_RUN => (n, Kind::Split { s_c }),
+                    _ => (n, Kind::Alone),
+                }
+            };
             runs.push(Run {
                 points: order[k..k + n].to_vec(),
-                split: split.filter(|_| n >= MIN_RUN),
+                kind,
             });
             k += n;
         }
         runs
     }
 
-    /// One run with its split at `s_c`: the far part at the Chebyshev nodes, then each point.
-    fn observe_run<C: CrossSection + ?Sized>(
+    fn observe_alone<C: CrossSection + ?Sized>(
+        &self,
+        sigma: &C,
+        s: &[f64],
+        points: &[usize],
+    ) -> Vec<(usize, Result<Observed, IsrError>)> {
+        points
+            .par_iter()
+            .map(|&i| (i, self.observe(sigma, s[i])))
+            .collect()
+    }
+
+    /// A whole run: σ_obs at the Chebyshev nodes, interpolated.
+    fn observe_whole<C: CrossSection + ?Sized>(
+        &self,
+        sigma: &C,
+        s: &[f64],
+        points: &[usize],
+    ) -> Vec<(usize, Result<Observed, IsrError>)> {
+        let run = Nodes::of(s, points);
+        let nodes: Result<Vec<Observed>, IsrError> = (0..NODES)
+            .into_par_iter()
+            .map(|k| self.observe(sigma, run.s(k)))
+            .collect();
+        let Ok(nodes) = nodes else {
+            return self.observe_alone(sigma, s, points);
+        };
+        let series = Chebyshev::fit(&nodes.iter().map(|o| o.sigma_nb).collect::<Vec<_>>());
+        let error = worst_error(&nodes) + series.tail();
+        let smallest = nodes
+            .iter()
+            .map(|o| o.sigma_nb.abs())
+            .fold(f64::INFINITY, f64::min);
+        let converged = nodes.iter().all(|o| o.status == Status::Converged);
+        if !(converged && error <= self.rel_tol * smallest) {
+            return self.observe_alone(sigma, s, points);
+        }
+        let share = nodes
+            .iter()
+            .map(|o| o.evaluations)
+            .sum::<usize>()
+            .div_ceil(points.len());
+        let panels = nodes.iter().map(|o| o.panels).max().unwrap_or(0);
+        let th = sigma.threshold_s_gev2().max(0.0);
+        points
+            .iter()
+            .map(|&i| {
+                let r = self.cuts().x_limit(s[i], th).map(|x_max| Observed {
+                    sigma_nb: series.eval(run.u(s[i])),
+                    error_nb: error,
+                    x_max,
+                    evaluations: share,
+                    panels,
+                    status: Status::Converged,
+                });
+                (i, r)
+            })
+            .collect()
+    }
+
+    /// A split run at `s_c`: the far part at the Chebyshev nodes, then each point's near part.
+    fn observe_split<C: CrossSection + ?Sized>(
         &self,
         sigma: &C,
         s: &[f64],
         points: &[usize],
         s_c: f64,
     ) -> Vec<(usize, Result<Observed, IsrError>)> {
-        let (lo, hi) = (s[points[0]], s[points[points.len() - 1]]);
-        let (mid, half) = (0.5 * (hi + lo), 0.5 * (hi - lo));
-        let far_at = |s_k: f64| self.observe_range(sigma, s_k, 1.0 - s_c / s_k, 1.0);
-        let far: Vec<Result<Observed, IsrError>> = (0..NODES)
+        let run = Nodes::of(s, points);
+        let far: Result<Vec<Observed>, IsrError> = (0..NODES)
             .into_par_iter()
-            .map(|k| far_at(mid + half * chebyshev_node(k)))
+            .map(|k| {
+                let s_k = run.s(k);
+                self.observe_range(sigma, s_k, 1.0 - s_c / s_k, 1.0)
+            })
             .collect();
-        let pointwise = || {
-            points
-                .par_iter()
-                .map(|&i| (i, self.observe(sigma, s[i])))
-                .collect()
-        };
-        let Ok(far) = far.into_iter().collect::<Result<Vec<Observed>, IsrError>>() else {
-            return pointwise();
+        let Ok(far) = far else {
+            return self.observe_alone(sigma, s, points);
         };
         if far.iter().any(|o| o.status != Status::Converged) {
-            return pointwise();
+            return self.observe_alone(sigma, s, points);
         }
-        let values: Vec<f64> = far.iter().map(|o| o.sigma_nb).collect();
-        let series = Chebyshev::fit(&values);
-        let far_error = far.iter().map(|o| o.error_nb).fold(0.0, f64::max) + series.tail();
-        let far_evaluations: usize = far.iter().map(|o| o.evaluations).sum();
-        let share = far_evaluations.div_ceil(points.len());
+        let series = Chebyshev::fit(&far.iter().map(|o| o.sigma_nb).collect::<Vec<_>>());
+        let far_error = worst_error(&far) + series.tail();
+        let share = far
+            .iter()
+            .map(|o| o.evaluations)
+            .sum::<usize>()
+            .div_ceil(points.len());
         points
             .par_iter()
             .map(|&i| {
@@ -152,8 +231,7 @@ impl Isr {
                     Ok(near) => near,
                     Err(e) => return (i, Err(e)),
                 };
-                let u = if half > 0.0 { (s_i - mid) / half } else { 0.0 };
-                let value = near.sigma_nb + series.eval(u);
+                let value = near.sigma_nb + series.eval(run.u(s_i));
                 let error = near.error_nb + far_error;
                 let r = if near.status == Status::Converged
                     && value.is_finite()
@@ -174,10 +252,72 @@ impl Isr {
     }
 }
 
-/// Consecutive energies (indices) and, where they share the far part, the split s_c.
+/// The largest estimated error among `obs`.
+fn worst_error(obs: &[Observed]) -> f64 {
+    obs.iter().map(|o| o.error_nb).fold(0.0, f64::max)
+}
+
+/// A run's span [lo, hi] in s (its first and last energy) and its Chebyshev nodes there.
+struct Nodes {
+    mid: f64,
+    half: f64,
+}
+
+impl Nodes {
+    fn of(s: &[f64], points: &[usize]) -> Self {
+        let (lo, hi) = (s[points[0]], s[points[points.len() - 1]]);
+        Nodes {
+            mid: 0.5 * (hi + lo),
+            half: 0.5 * (hi - lo),
+        }
+    }
+
+    /// The k-th node in s.
+    fn s(&self, k: usize) -> f64 {
+        self.mid + self.half * chebyshev_node(k)
+    }
+
+    /// s in the interpolant's variable u ∈ [−1, 1].
+    fn u(&self, s: f64) -> f64 {
+        if self.half > 0.0 {
+            (s - self.mid) / self.half
+        } else {
+            0.0
+        }
+    }
+}
+
+/// The largest b such that [a, b] keeps [`CLEARANCE`] of its length from every feature of
+/// σ_d, from the lowest s′ `low` and from s = 0 (a peak taken at its M², without the width:
+/// never nearer than its pole).
+fn clear_reach(features: &[Feature], low: f64, a: f64) -> f64 {
+    let at = features.iter().map(|f| match *f {
+        Feature::Edge { s_gev2 } | Feature::Peak { s_gev2, .. } => s_gev2,
+    });
+    at.chain([low, 0.0])
+        .map(|e| {
+            if e < a {
+                a + (a - e) / CLEARANCE
+            } else {
+                (e + CLEARANCE * a) / (1.0 + CLEARANCE)
+            }
+        })
+        .fold(f64::INFINITY, f64::min)
+}
+
+/// Consecutive energies (indices) and how they are taken.
 struct Run {
     points: Vec<usize>,
-    split: Option<f64>,
+    kind: Kind,
+}
+
+enum Kind {
+    /// σ_obs interpolated (a run clear of its singularities).
+    Whole,
+    /// The far part below `s_c` interpolated, the near part point by point.
+    Split { s_c: f64 },
+    /// Point by point.
+    Alone,
 }
 
 /// The first of s_c, s_c(1 − c), s_c(1 − c)², … (c = [`EDGE_CLEARANCE`], at most 8 steps)
@@ -263,5 +403,24 @@ mod tests {
             assert!((g.eval(u) - f(u)).abs() < bound, "u = {u}");
         }
         assert!(g.tail() < 1e-10 && g.tail() > 1e-14, "tail {}", g.tail());
+    }
+
+    /// A whole run [a, b] ends where the nearest structure is half its length away.
+    #[test]
+    fn a_whole_run_keeps_half_its_length_from_every_structure() {
+        let features = [
+            Feature::Edge { s_gev2: 10.0 },
+            Feature::Peak {
+                s_gev2: 20.0,
+                m_gamma_gev2: 0.01,
+            },
+        ];
+        // From a = 12: the edge below allows b − a ≤ 2·2 (b = 16); the peak above
+        // 20 − b ≥ (b − 12)/2 (b ≤ 17.33); s = 0 and the lowest s′ (0.04) allow ~36.
+        assert!((clear_reach(&features, 0.04, 12.0) - 16.0).abs() < 1e-12);
+        // From a = 17: the peak limits it, b = (20 + 8.5)/1.5 = 19.
+        assert!((clear_reach(&features, 0.04, 17.0) - 19.0).abs() < 1e-12);
+        // Nothing but s = 0 and the lowest s′ (1) below: b = 100 + 2·99 = 298.
+        assert!((clear_reach(&[], 1.0, 100.0) - 298.0).abs() < 1e-9);
     }
 }
