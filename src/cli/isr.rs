@@ -160,6 +160,8 @@ pub fn run(args: IsrArgs) -> Result<()> {
         VpName::Full => VpChoice::Full,
     });
     notes.push(vp.describe());
+    // The s-channel factor table now, across threads, before the parallel work.
+    vp.tabulate();
     let dressed = Dressed::new(born, vp);
     let scheme = args.radiator.scheme();
     let isr = Isr::new(scheme, cuts);
@@ -246,10 +248,18 @@ pub fn run(args: IsrArgs) -> Result<()> {
         }
         Ok(row)
     };
-    let rows = (0..s_values.len())
-        .into_par_iter()
-        .map(point)
-        .collect::<Result<Vec<Row>>>()?;
+    // A row is a few table lookups unless a spread is folded in: then it is a convolution
+    // worth spreading over threads (rows built across threads also cost the allocator more).
+    let rows = if spread_mev > 0.0 {
+        (0..s_values.len())
+            .into_par_iter()
+            .map(point)
+            .collect::<Result<Vec<Row>>>()?
+    } else {
+        (0..s_values.len())
+            .map(point)
+            .collect::<Result<Vec<Row>>>()?
+    };
     let mut report = Report::new(rows);
     for n in notes {
         report = report.note(n);

@@ -53,7 +53,8 @@ pub struct Row(Vec<(Cow<'static, str>, Value)>);
 
 impl Row {
     pub fn new() -> Self {
-        Row(Vec::new())
+        // Room for a typical point's keys without regrowing.
+        Row(Vec::with_capacity(16))
     }
 
     /// A row from an already-built JSON object (the table writer's rows).

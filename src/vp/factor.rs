@@ -17,6 +17,7 @@
 use super::hadronic::chebyshev::{Chebyshev, PieceStats};
 use crate::numeric::fast::estrin;
 use num_complex::Complex64;
+use rayon::prelude::*;
 
 /// Coefficients per piece (degree K − 1): low enough for a short Estrin tree and a power
 /// basis that loses nothing measurable, high enough that pieces stay few.
@@ -87,8 +88,15 @@ impl std::fmt::Debug for FactorTable {
 
 impl FactorTable {
     /// Tabulate `factor` (the direct 1/(1 − Π)) with breaks at `breaks` and √ edges at
-    /// `roots` (each also a break), on the calling thread.
-    pub(super) fn build(factor: &dyn Fn(f64) -> Complex64, breaks: &[f64], roots: &[f64]) -> Self {
+    /// `roots` (each also a break); the segments between breaks on rayon's pool when
+    /// `parallel` (never from inside a lock a pool worker may wait on), else on the calling
+    /// thread.
+    pub(super) fn build(
+        factor: &(dyn Fn(f64) -> Complex64 + Sync),
+        breaks: &[f64],
+        roots: &[f64],
+        parallel: bool,
+    ) -> Self {
         let mut b: Vec<f64> = breaks.iter().chain(roots).copied().collect();
         // Decades, so that no piece spans more than a factor 10 in s.
         let mut s = S_LO;
@@ -109,8 +117,7 @@ impl FactorTable {
             }
             same
         });
-        let mut pieces: Vec<(f64, Piece)> = Vec::new();
-        let mut segment = |lo: f64, hi: f64, map: Map| {
+        let segment = |&(lo, hi, map): &(f64, f64, Map)| -> Vec<(f64, Piece)> {
             // The variable runs from the edge outward. The samples stay a rounding error
             // inside [lo, hi]: on a side of a jump (a model's edge may be one) they take
             // that side's limit, and a root map's end cannot round across.
@@ -133,6 +140,7 @@ impl FactorTable {
             };
             let table = Chebyshev::<K, 2>::build_serial(&f, &[w_lo, w_hi], &tol);
             let (e, n) = (table.edges(), table.pieces());
+            let mut pieces = Vec::with_capacity(n);
             for i in 0..n {
                 let (a, b) = (e[i], e[i + 1]);
                 // Piece i in s: [s(a), s(b)], or [s(b), s(a)] below a root; the first piece
@@ -155,7 +163,9 @@ impl FactorTable {
                     },
                 ));
             }
+            pieces
         };
+        let mut segments = Vec::with_capacity(b.len());
         for w in b.windows(2) {
             let (lo, hi) = (w[0], w[1]);
             let above = Map::Root { s0: lo, dir: 1.0 };
@@ -163,14 +173,19 @@ impl FactorTable {
             match (is_root(lo), is_root(hi)) {
                 (true, true) => {
                     let mid = 0.5 * (lo + hi);
-                    segment(lo, mid, above);
-                    segment(mid, hi, below);
+                    segments.push((lo, mid, above));
+                    segments.push((mid, hi, below));
                 }
-                (true, false) => segment(lo, hi, above),
-                (false, true) => segment(lo, hi, below),
-                (false, false) => segment(lo, hi, Map::Plain),
+                (true, false) => segments.push((lo, hi, above)),
+                (false, true) => segments.push((lo, hi, below)),
+                (false, false) => segments.push((lo, hi, Map::Plain)),
             }
         }
+        let mut pieces: Vec<(f64, Piece)> = if parallel {
+            segments.par_iter().flat_map_iter(segment).collect()
+        } else {
+            segments.iter().flat_map(segment).collect()
+        };
         pieces.sort_by(|a, b| a.0.total_cmp(&b.0));
         let mut edges: Vec<f64> = pieces.iter().map(|p| p.0).collect();
         edges.push(S_HI);
@@ -270,7 +285,7 @@ mod tests {
             .iter()
             .map(|k| 5.0 + k * 0.001)
             .collect();
-        let t = FactorTable::build(&f, &breaks, &[1.0]);
+        let t = FactorTable::build(&f, &breaks, &[1.0], false);
         let mut worst = 0.0f64;
         for k in 0..20000 {
             let s = 1e-3 * 1e4f64.powf(k as f64 / 20000.0);

@@ -203,57 +203,71 @@ impl Vp {
         }
     }
 
+    /// The factor table, built at first use. Off rayon's pool (the main thread of a
+    /// command, which builds it before its parallel work through [`Vp::tabulate`]) the
+    /// build runs across the pool, outside the cell's lock: a pool worker blocked on the
+    /// cell while the builder waits for pool work would deadlock. A racing first use
+    /// elsewhere builds its own; the first to finish is kept. On the pool it builds inside
+    /// the cell, on the calling thread.
     fn factor_table(&self) -> &FactorTable {
-        self.factor.get_or_init(|| {
-            let mut breaks = Vec::new();
-            let mut roots = Vec::new();
-            let peak = |m2: f64, mg: f64, breaks: &mut Vec<f64>| {
-                breaks.extend(PEAK_BREAKS.iter().map(|k| m2 + k * mg));
-            };
-            // A user R table's ends are jumps of R, at the first s whose √s the table
-            // covers or no longer covers: the break must sit on that float exactly.
-            let table_ends = self
-                .hadronic
-                .as_ref()
-                .and_then(|h| h.model().table())
-                .map(|t| t.range_gev());
-            let snap = |s: f64| match table_ends {
-                Some((lo, _)) if s == lo * lo => first_float(s, |x| x.sqrt() >= lo),
-                Some((_, hi)) if s == hi * hi => first_float(s, |x| x.sqrt() > hi),
-                _ => s,
-            };
-            for f in &self.features {
-                match *f {
-                    Feature::Edge { s_gev2 } => roots.push(snap(s_gev2)),
-                    Feature::Peak {
-                        s_gev2,
-                        m_gamma_gev2,
-                    } => peak(s_gev2, m_gamma_gev2, &mut breaks),
-                }
+        if let Some(table) = self.factor.get() {
+            return table;
+        }
+        if rayon::current_thread_index().is_none() {
+            let _ = self.factor.set(self.build_factor_table(true));
+        }
+        self.factor.get_or_init(|| self.build_factor_table(false))
+    }
+
+    fn build_factor_table(&self, parallel: bool) -> FactorTable {
+        let mut breaks = Vec::new();
+        let mut roots = Vec::new();
+        let peak = |m2: f64, mg: f64, breaks: &mut Vec<f64>| {
+            breaks.extend(PEAK_BREAKS.iter().map(|k| m2 + k * mg));
+        };
+        // A user R table's ends are jumps of R, at the first s whose √s the table
+        // covers or no longer covers: the break must sit on that float exactly.
+        let table_ends = self
+            .hadronic
+            .as_ref()
+            .and_then(|h| h.model().table())
+            .map(|t| t.range_gev());
+        let snap = |s: f64| match table_ends {
+            Some((lo, _)) if s == lo * lo => first_float(s, |x| x.sqrt() >= lo),
+            Some((_, hi)) if s == hi * hi => first_float(s, |x| x.sqrt() > hi),
+            _ => s,
+        };
+        for f in &self.features {
+            match *f {
+                Feature::Edge { s_gev2 } => roots.push(snap(s_gev2)),
+                Feature::Peak {
+                    s_gev2,
+                    m_gamma_gev2,
+                } => peak(s_gev2, m_gamma_gev2, &mut breaks),
             }
-            if let Some(h) = &self.hadronic {
-                // Every Breit–Wigner's M² (a dressed pole's M² is not among the features),
-                // the smooth R's peaks, a user table's rows (kinks of R), and where the
-                // hadronic table's pieces meet (Re Π jumps there by ~10⁻¹¹, which
-                // |1/(1 − Π)|² up to ~60 on a narrow peak makes visible at our tolerance).
-                let model = h.model();
-                for r in model.resonances() {
-                    peak(
-                        r.mass_gev * r.mass_gev,
-                        r.mass_gev * r.width_gev,
-                        &mut breaks,
-                    );
-                }
-                for (m2, mg) in model.smooth_peaks() {
-                    peak(m2, mg, &mut breaks);
-                }
-                if let Some(t) = model.table() {
-                    breaks.extend(t.sqrt_s_gev().iter().map(|e| e * e));
-                }
-                breaks.extend(h.timelike_breaks());
+        }
+        if let Some(h) = &self.hadronic {
+            // Every Breit–Wigner's M² (a dressed pole's M² is not among the features),
+            // the smooth R's peaks, a user table's rows (kinks of R), and where the
+            // hadronic table's pieces meet (Re Π jumps there by ~10⁻¹¹, which
+            // |1/(1 − Π)|² up to ~60 on a narrow peak makes visible at our tolerance).
+            let model = h.model();
+            for r in model.resonances() {
+                peak(
+                    r.mass_gev * r.mass_gev,
+                    r.mass_gev * r.width_gev,
+                    &mut breaks,
+                );
             }
-            FactorTable::build(&|s| 1.0 / (1.0 - self.pi(s)), &breaks, &roots)
-        })
+            for (m2, mg) in model.smooth_peaks() {
+                peak(m2, mg, &mut breaks);
+            }
+            if let Some(t) = model.table() {
+                breaks.extend(t.sqrt_s_gev().iter().map(|e| e * e));
+            }
+            breaks.extend(h.timelike_breaks());
+        }
+        FactorTable::build(&|s| 1.0 / (1.0 - self.pi(s)), &breaks, &roots, parallel)
     }
 
     pub fn choice(&self) -> VpChoice {

@@ -120,23 +120,68 @@ impl Rule {
     /// P∫ g(s)/(s − q) ds over [s_th, ∞) with gᵢ = g(sᵢ) given and g_q = g(q) (used only
     /// when s_th < q): pole subtraction with g(q)·q/s, whose principal value is
     /// g(q)·ln(s_th/(q − s_th)) in closed form.
+    ///
+    /// The sum runs in [`LANES`] interleaved partial sums, branch-free, so that the
+    /// divisions (the cost of every table build: ~2800 nodes per q²) run vectorised; on
+    /// x86-64 CPUs with AVX2 from a copy compiled for it (both copies give the same bits).
     pub fn principal_value(&self, g: &[f64], q: f64, g_q: f64) -> f64 {
-        let mut sum = 0.0;
+        #[cfg(target_arch = "x86_64")]
+        if std::arch::is_x86_feature_detected!("avx2") {
+            // SAFETY: the CPU has AVX2, checked on the line above.
+            return unsafe { self.principal_value_avx2(g, q, g_q) };
+        }
+        self.principal_value_portable(g, q, g_q)
+    }
+
+    /// [`Rule::principal_value_portable`] compiled for AVX2.
+    #[cfg(target_arch = "x86_64")]
+    #[target_feature(enable = "avx2")]
+    fn principal_value_avx2(&self, g: &[f64], q: f64, g_q: f64) -> f64 {
+        self.principal_value_portable(g, q, g_q)
+    }
+
+    #[inline(always)]
+    fn principal_value_portable(&self, g: &[f64], q: f64, g_q: f64) -> f64 {
+        let columns = [&self.s[..], &self.w, &self.w_over_s, g];
         if q <= self.s_th {
-            for ((s, w), gi) in self.s.iter().zip(&self.w).zip(g) {
-                sum += w * gi / (s - q);
-            }
-            return sum;
+            return lane_sum(columns, |[s, w, _, g]| w * g / (s - q));
         }
         let gq_q = g_q * q;
-        for (((s, w), ws), gi) in self.s.iter().zip(&self.w).zip(&self.w_over_s).zip(g) {
+        // A node within rounding of the pole: the subtracted integrand's limit there is
+        // g′(q) + g(q)/q, of the order of its neighbours; its weight is negligible.
+        let near = 1e-10 * q;
+        let sum = lane_sum(columns, |[s, w, ws, g]| {
             let d = s - q;
-            // A node within rounding of the pole: the subtracted integrand's limit there is
-            // g′(q) + g(q)/q, of the order of its neighbours; its weight is negligible.
-            if d.abs() > 1e-10 * q {
-                sum += (w * gi - gq_q * ws) / d;
-            }
-        }
+            let term = (w * g - gq_q * ws) / d;
+            if d.abs() > near { term } else { 0.0 }
+        });
         sum + g_q * (self.s_th / (q - self.s_th)).ln()
     }
+}
+
+/// Partial sums kept apart in [`principal_value`](Rule::principal_value).
+const LANES: usize = 8;
+
+/// Σᵢ term(row i of `columns`) over the shortest column, accumulated in [`LANES`]
+/// interleaved partial sums (a fixed order, whatever the instruction set) added pairwise at
+/// the end.
+#[inline(always)]
+fn lane_sum(columns: [&[f64]; 4], term: impl Fn([f64; 4]) -> f64) -> f64 {
+    let n = columns.iter().map(|c| c.len()).min().unwrap_or(0);
+    let [a, b, c, d] = columns.map(|col| &col[..n]);
+    let mut acc = [0.0; LANES];
+    let chunks = a
+        .chunks_exact(LANES)
+        .zip(b.chunks_exact(LANES))
+        .zip(c.chunks_exact(LANES).zip(d.chunks_exact(LANES)));
+    for ((a, b), (c, d)) in chunks {
+        for l in 0..LANES {
+            acc[l] += term([a[l], b[l], c[l], d[l]]);
+        }
+    }
+    for (l, i) in (n - n % LANES..n).enumerate() {
+        acc[l] += term([a[i], b[i], c[i], d[i]]);
+    }
+    let [a0, a1, a2, a3, a4, a5, a6, a7] = acc;
+    ((a0 + a1) + (a2 + a3)) + ((a4 + a5) + (a6 + a7))
 }
