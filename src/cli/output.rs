@@ -45,44 +45,65 @@ pub struct OutputArgs {
     pub units: Units,
 }
 
-/// One output point: keys in order with their values (a nested object is a
-/// `Value::Object`). A plain list rather than a map: a grid builds 10⁴ of them, and the
-/// keys are almost always literals.
+/// One output point: keys in order with their values. A plain list of compact cells
+/// rather than a JSON map: a grid builds 10⁴ of them, the keys are almost always literals,
+/// and JSON values are built only when JSON is written.
 #[derive(Debug, Clone, Default)]
-pub struct Row(Vec<(Cow<'static, str>, Value)>);
+pub struct Row(Vec<(Cow<'static, str>, Cell)>);
+
+/// One value of a [`Row`], 24 bytes (a grid's rows are ~10⁵ of them: every byte is a
+/// page of fresh memory to fault in per 4096/24 cells).
+#[derive(Debug, Clone)]
+enum Cell {
+    Num(f64),
+    Static(&'static str),
+    Text(Box<str>),
+    Int(i64),
+    Flag(bool),
+    Nested(Box<Row>),
+    /// A value from an already-built JSON object (the table writer's rows).
+    Json(Box<Value>),
+}
 
 impl Row {
     pub fn new() -> Self {
-        // Room for a typical point's keys without regrowing.
-        Row(Vec::with_capacity(16))
+        Row(Vec::new())
     }
 
     /// A row from an already-built JSON object (the table writer's rows).
     pub fn from_map(map: Map<String, Value>) -> Self {
-        Row(map.into_iter().map(|(k, v)| (Cow::Owned(k), v)).collect())
+        Row(map
+            .into_iter()
+            .map(|(k, v)| (Cow::Owned(k), Cell::Json(Box::new(v))))
+            .collect())
     }
 
-    fn put(mut self, key: impl Into<Cow<'static, str>>, v: Value) -> Self {
+    fn put(mut self, key: impl Into<Cow<'static, str>>, v: Cell) -> Self {
         self.0.push((key.into(), v));
         self
     }
 
     pub fn num(self, key: impl Into<Cow<'static, str>>, v: f64) -> Self {
-        self.put(key, num_value(v))
+        // The library's writer rule: negative zero is written as 0.
+        self.put(key, Cell::Num(if v == 0.0 { 0.0 } else { v }))
     }
 
-    pub fn text(self, key: impl Into<Cow<'static, str>>, v: impl Into<String>) -> Self {
-        self.put(key, Value::String(v.into()))
+    pub fn text(self, key: impl Into<Cow<'static, str>>, v: impl Into<Cow<'static, str>>) -> Self {
+        let cell = match v.into() {
+            Cow::Borrowed(t) => Cell::Static(t),
+            Cow::Owned(t) => Cell::Text(t.into_boxed_str()),
+        };
+        self.put(key, cell)
     }
 
     #[allow(dead_code, reason = "used by the commands that report counts")]
     pub fn int(self, key: impl Into<Cow<'static, str>>, v: i64) -> Self {
-        self.put(key, Value::from(v))
+        self.put(key, Cell::Int(v))
     }
 
     #[allow(dead_code, reason = "used by the commands that report switches")]
     pub fn flag(self, key: impl Into<Cow<'static, str>>, v: bool) -> Self {
-        self.put(key, Value::Bool(v))
+        self.put(key, Cell::Flag(v))
     }
 
     /// A nested object (a breakdown, a budget) inside this point's object.
@@ -91,25 +112,31 @@ impl Row {
         reason = "used by the commands that report breakdowns and budgets"
     )]
     pub fn nested(self, key: impl Into<Cow<'static, str>>, v: Row) -> Self {
-        self.put(key, Value::Object(v.into_map()))
+        self.put(key, Cell::Nested(Box::new(v)))
     }
 
-    fn into_map(self) -> Map<String, Value> {
-        self.0
-            .into_iter()
-            .map(|(k, v)| (k.into_owned(), v))
-            .collect()
-    }
-
+    /// The row as a JSON object.
     fn to_map(&self) -> Map<String, Value> {
-        self.clone().into_map()
+        self.0
+            .iter()
+            .map(|(k, v)| (k.to_string(), v.to_value()))
+            .collect()
     }
 }
 
-/// A number as JSON (the library's writer rule: negative zero as 0); a non-finite one
-/// becomes `null` here and is refused in [`render`].
-fn num_value(v: f64) -> Value {
-    radnorm::io::tables::number(v)
+impl Cell {
+    /// As JSON (a non-finite number as `null`, refused in [`render`]).
+    fn to_value(&self) -> Value {
+        match self {
+            Cell::Num(x) => radnorm::io::tables::number(*x),
+            Cell::Static(t) => Value::String(t.to_string()),
+            Cell::Text(t) => Value::String(t.to_string()),
+            Cell::Int(i) => Value::from(*i),
+            Cell::Flag(b) => Value::Bool(*b),
+            Cell::Nested(row) => Value::Object(row.to_map()),
+            Cell::Json(v) => (**v).clone(),
+        }
+    }
 }
 
 /// What a command produced: its points, an optional summary, and how it was made.
@@ -158,12 +185,17 @@ pub fn emit(report: Report, args: &OutputArgs, inputs: &[&Path], single: bool) -
 /// Render to a string. `single` picks the one-object JSON shape for a one-point result.
 pub fn render(mut report: Report, format: Format, units: Units, single: bool) -> Result<String> {
     for row in report.rows.iter_mut().chain(report.summary.iter_mut()) {
-        check_finite(row.entries(), "")?;
+        let mut bad = None;
+        for_each_leaf(row, &mut String::new(), &mut |k, leaf| {
+            if bad.is_none() && !leaf.is_finite() {
+                bad = Some(k.to_string());
+            }
+        });
+        if let Some(k) = bad {
+            bail!("internal error: the value of {k} is not a finite number; nothing was written");
+        }
         if units == Units::Pb {
-            row.0 = std::mem::take(&mut row.0)
-                .into_iter()
-                .map(|(k, v)| to_pb(k, v))
-                .collect();
+            row.convert_to_pb();
         }
     }
     match format {
@@ -173,47 +205,59 @@ pub fn render(mut report: Report, format: Format, units: Units, single: bool) ->
     }
 }
 
-impl Row {
-    fn entries(&self) -> impl Iterator<Item = (&str, &Value)> {
-        self.0.iter().map(|(k, v)| (k.as_ref(), v))
+/// The scale and new key of a `*_nb` key (→ `*_pb`, ×1000) or `*_nb_inv` key (→ `*_pb_inv`,
+/// ÷1000); None for any other key.
+fn pb_key(k: &str) -> Option<(String, f64)> {
+    if let Some(stem) = k.strip_suffix("_nb_inv") {
+        Some((format!("{stem}_pb_inv"), 1e-3))
+    } else {
+        k.strip_suffix("_nb")
+            .map(|stem| (format!("{stem}_pb"), 1e3))
     }
 }
 
-fn object_entries(map: &Map<String, Value>) -> impl Iterator<Item = (&str, &Value)> {
-    map.iter().map(|(k, v)| (k.as_str(), v))
-}
-
-fn check_finite<'a>(
-    entries: impl Iterator<Item = (&'a str, &'a Value)>,
-    prefix: &str,
-) -> Result<()> {
-    for (k, v) in entries {
-        match v {
-            Value::Null => bail!(
-                "internal error: the value of {prefix}{k} is not a finite number; nothing was written"
-            ),
-            Value::Object(inner) => check_finite(object_entries(inner), &format!("{prefix}{k}."))?,
-            _ => {}
+impl Row {
+    /// Cross-sections in pb and luminosities in pb⁻¹, keys renamed, recursively.
+    fn convert_to_pb(&mut self) {
+        for (k, v) in &mut self.0 {
+            match (pb_key(k), v) {
+                (Some((key, f)), Cell::Num(x)) => {
+                    *k = Cow::Owned(key);
+                    *x *= f;
+                }
+                (Some((key, f)), Cell::Json(j)) => {
+                    *k = Cow::Owned(key);
+                    if let Some(x) = j.as_f64() {
+                        **j = radnorm::io::tables::number(x * f);
+                    }
+                }
+                (None, Cell::Nested(row)) => row.convert_to_pb(),
+                (None, Cell::Json(j)) => {
+                    if let Value::Object(map) = &mut **j {
+                        *map = std::mem::take(map)
+                            .into_iter()
+                            .map(|(k, v)| json_to_pb(k, v))
+                            .collect()
+                    }
+                }
+                _ => {}
+            }
         }
     }
-    Ok(())
 }
 
-/// Rename a `*_nb` key to `*_pb` (×1000) and `*_nb_inv` to `*_pb_inv` (÷1000), recursively.
-fn to_pb<K: AsRef<str> + From<String>>(k: K, v: Value) -> (K, Value) {
-    let scale = |v: Value, f: f64| match v.as_f64() {
-        Some(x) => num_value(x * f),
-        None => v,
-    };
-    if let Some(stem) = k.as_ref().strip_suffix("_nb_inv") {
-        (format!("{stem}_pb_inv").into(), scale(v, 1e-3))
-    } else if let Some(stem) = k.as_ref().strip_suffix("_nb") {
-        (format!("{stem}_pb").into(), scale(v, 1e3))
-    } else if let Value::Object(inner) = v {
-        let inner = inner.into_iter().map(|(k, v)| to_pb(k, v)).collect();
-        (k, Value::Object(inner))
-    } else {
-        (k, v)
+/// [`Row::convert_to_pb`] for a JSON value under key `k`.
+fn json_to_pb(k: String, v: Value) -> (String, Value) {
+    match (pb_key(&k), v) {
+        (Some((key, f)), v) => {
+            let v = v.as_f64().map_or(v, |x| radnorm::io::tables::number(x * f));
+            (key, v)
+        }
+        (None, Value::Object(inner)) => (
+            k,
+            Value::Object(inner.into_iter().map(|(k, v)| json_to_pb(k, v)).collect()),
+        ),
+        (None, v) => (k, v),
     }
 }
 
@@ -242,55 +286,106 @@ fn render_json(report: &Report, single: bool) -> String {
     s
 }
 
-/// Visit the leaves of nested objects in order with their `parent.child` keys (built in
-/// `prefix`, which is restored on return).
-fn for_each_leaf<'a>(
-    entries: impl Iterator<Item = (&'a str, &'a Value)>,
+/// A leaf of a row: one of its cells, or a value inside a JSON object it holds.
+#[derive(Clone, Copy)]
+enum Leaf<'a> {
+    Cell(&'a Cell),
+    Json(&'a Value),
+}
+
+impl Leaf<'_> {
+    fn is_finite(self) -> bool {
+        match self {
+            Leaf::Cell(Cell::Num(x)) => x.is_finite(),
+            Leaf::Json(v) => !v.is_null(),
+            _ => true,
+        }
+    }
+
+    fn number(self) -> Option<f64> {
+        match self {
+            Leaf::Cell(Cell::Num(x)) => Some(*x),
+            Leaf::Json(v) if v.is_f64() => v.as_f64(),
+            _ => None,
+        }
+    }
+
+    /// Append as a CSV cell (numbers in JSON's shortest round-trip form).
+    fn write_csv(self, s: &mut String) {
+        match self {
+            Leaf::Cell(Cell::Num(x)) => s.push_str(zmij::Buffer::new().format_finite(*x)),
+            Leaf::Cell(Cell::Static(t)) => s.push_str(&csv_field(t)),
+            Leaf::Cell(Cell::Text(t)) => s.push_str(&csv_field(t)),
+            Leaf::Json(Value::String(t)) => s.push_str(&csv_field(t)),
+            other => s.push_str(&other.plain()),
+        }
+    }
+
+    /// As plain text (strings unquoted).
+    fn plain(self) -> String {
+        match self {
+            Leaf::Cell(Cell::Num(x)) => zmij::Buffer::new().format_finite(*x).to_string(),
+            Leaf::Cell(Cell::Static(t)) => t.to_string(),
+            Leaf::Cell(Cell::Text(t)) => t.to_string(),
+            Leaf::Cell(Cell::Int(i)) => i.to_string(),
+            Leaf::Cell(Cell::Flag(b)) => b.to_string(),
+            Leaf::Cell(other) => other.to_value().to_string(),
+            Leaf::Json(Value::String(t)) => t.clone(),
+            Leaf::Json(v) => v.to_string(),
+        }
+    }
+}
+
+/// Visit the leaves of a row in order with their `parent.child` keys (built in `prefix`,
+/// which is restored on return).
+fn for_each_leaf<'a>(row: &'a Row, prefix: &mut String, visit: &mut impl FnMut(&str, Leaf<'a>)) {
+    for (k, v) in &row.0 {
+        let len = prefix.len();
+        prefix.push_str(k);
+        match v {
+            Cell::Nested(inner) => {
+                prefix.push('.');
+                for_each_leaf(inner, prefix, visit);
+            }
+            Cell::Json(json) => match &**json {
+                Value::Object(map) => {
+                    prefix.push('.');
+                    for_each_json_leaf(map, prefix, visit);
+                }
+                leaf => visit(prefix, Leaf::Json(leaf)),
+            },
+            leaf => visit(prefix, Leaf::Cell(leaf)),
+        }
+        prefix.truncate(len);
+    }
+}
+
+fn for_each_json_leaf<'a>(
+    map: &'a Map<String, Value>,
     prefix: &mut String,
-    visit: &mut impl FnMut(&str, &'a Value),
+    visit: &mut impl FnMut(&str, Leaf<'a>),
 ) {
-    for (k, v) in entries {
+    for (k, v) in map {
         let len = prefix.len();
         prefix.push_str(k);
         match v {
             Value::Object(inner) => {
                 prefix.push('.');
-                for_each_leaf(object_entries(inner), prefix, visit);
+                for_each_json_leaf(inner, prefix, visit);
             }
-            leaf => visit(prefix, leaf),
+            leaf => visit(prefix, Leaf::Json(leaf)),
         }
         prefix.truncate(len);
     }
 }
 
 /// A row's leaves as (flattened key, value).
-fn flatten(row: &Row) -> Vec<(String, &Value)> {
+fn flatten(row: &Row) -> Vec<(String, Leaf<'_>)> {
     let mut out = Vec::new();
-    for_each_leaf(row.entries(), &mut String::new(), &mut |k, v| {
+    for_each_leaf(row, &mut String::new(), &mut |k, v| {
         out.push((k.to_string(), v))
     });
     out
-}
-
-/// Append a value as a CSV cell (numbers in JSON's shortest round-trip form).
-fn write_cell(s: &mut String, v: &Value) {
-    match v {
-        Value::String(t) => s.push_str(&csv_field(t)),
-        Value::Number(n) => {
-            let _ = write!(s, "{n}");
-        }
-        other => {
-            let _ = write!(s, "{other}");
-        }
-    }
-}
-
-/// A value as plain text (strings unquoted).
-fn cell(v: &Value) -> String {
-    match v {
-        Value::String(s) => s.clone(),
-        other => other.to_string(),
-    }
 }
 
 fn render_csv(report: &Report) -> String {
@@ -301,7 +396,7 @@ fn render_csv(report: &Report) -> String {
     let mut prefix = String::new();
     if let Some(first) = report.rows.first() {
         let mut sep = "";
-        for_each_leaf(first.entries(), &mut prefix, &mut |k, _| {
+        for_each_leaf(first, &mut prefix, &mut |k, _| {
             s.push_str(sep);
             s.push_str(k);
             sep = ",";
@@ -310,9 +405,9 @@ fn render_csv(report: &Report) -> String {
     }
     for row in &report.rows {
         let mut sep = "";
-        for_each_leaf(row.entries(), &mut prefix, &mut |_, v| {
+        for_each_leaf(row, &mut prefix, &mut |_, v| {
             s.push_str(sep);
-            write_cell(&mut s, v);
+            v.write_csv(&mut s);
             sep = ",";
         });
         s.push('\n');
@@ -320,7 +415,7 @@ fn render_csv(report: &Report) -> String {
     if let Some(summary) = &report.summary {
         s.push_str("# summary\n");
         for (k, v) in flatten(summary) {
-            let _ = writeln!(s, "# {k},{}", cell(v));
+            let _ = writeln!(s, "# {k},{}", v.plain());
         }
     }
     s
@@ -356,20 +451,17 @@ fn header_with_unit(key: &str) -> String {
     key.to_string()
 }
 
-fn text_cell(v: &Value) -> String {
-    match v {
-        Value::Number(n) if n.is_f64() => {
-            let x = n.as_f64().unwrap_or(0.0);
-            if x == 0.0 {
-                "0".into()
-            } else if (1e-3..1e6).contains(&x.abs()) {
-                let digits = (6 - x.abs().log10().floor() as i32).clamp(0, 9) as usize;
-                format!("{x:.digits$}")
-            } else {
-                format!("{x:.6e}")
-            }
-        }
-        other => cell(other),
+fn text_cell(v: Leaf) -> String {
+    let Some(x) = v.number() else {
+        return v.plain();
+    };
+    if x == 0.0 {
+        "0".into()
+    } else if (1e-3..1e6).contains(&x.abs()) {
+        let digits = (6 - x.abs().log10().floor() as i32).clamp(0, 9) as usize;
+        format!("{x:.digits$}")
+    } else {
+        format!("{x:.6e}")
     }
 }
 
@@ -387,7 +479,7 @@ fn render_text(report: &Report) -> String {
         for (k, v) in &flat {
             let h = header_with_unit(k);
             let pad = width - h.chars().count();
-            let _ = writeln!(s, "{h}{}  {}", " ".repeat(pad), text_cell(v));
+            let _ = writeln!(s, "{h}{}  {}", " ".repeat(pad), text_cell(*v));
         }
     } else if !report.rows.is_empty() {
         let first = columns(&report.rows[0]);
@@ -395,7 +487,7 @@ fn render_text(report: &Report) -> String {
         let body: Vec<Vec<String>> = report
             .rows
             .iter()
-            .map(|r| columns(r).iter().map(|(_, v)| text_cell(v)).collect())
+            .map(|r| columns(r).iter().map(|(_, v)| text_cell(*v)).collect())
             .collect();
         let widths: Vec<usize> = (0..headers.len())
             .map(|i| {
