@@ -511,7 +511,8 @@ impl<const N: usize> Panels<N> {
                     End::Plain => false,
                     End::Root => true,
                     End::Peak { gamma, offset } => {
-                        offset.hypot(gamma) < (-self.last.v).min(HEAD_BEYOND_PEAK)
+                        (offset * offset + gamma * gamma).sqrt()
+                            < (-self.last.v).min(HEAD_BEYOND_PEAK)
                     }
                 };
                 let mut x0 = head_end(breaks, self.last.x, singular_end);
@@ -935,8 +936,9 @@ fn collect_breaks<const N: usize>(
     // √(offset² + γ²) in v.
     let mut beyond: Option<(f64, End)> = None;
     let mut before: Option<(f64, End)> = None;
+    // (Distances in v, of order 1 and below: √(a² + b²) without hypot's scaling.)
     let nearest = |slot: &mut Option<(f64, End)>, gamma: f64, offset: f64| {
-        let distance = offset.hypot(gamma);
+        let distance = (offset * offset + gamma * gamma).sqrt();
         if slot.is_none_or(|(d, _)| distance < d) {
             *slot = Some((distance, End::Peak { gamma, offset }));
         }
@@ -968,7 +970,7 @@ fn collect_breaks<const N: usize>(
             ABOVE_WIDTHS
         };
         if width_x > 0.0 && x.abs() < reach * width_x {
-            let limit = HEAD_PEAK_FRACTION * x.hypot(width_x);
+            let limit = HEAD_PEAK_FRACTION * (x * x + width_x * width_x).sqrt();
             let forced = x > 0.0;
             at_sqrt_s = Some(at_sqrt_s.map_or((limit, forced), |(l, f): (f64, bool)| {
                 (l.min(limit), f || forced)

@@ -209,10 +209,16 @@ impl Vp {
     /// cell while the builder waits for pool work would deadlock. A racing first use
     /// elsewhere builds its own; the first to finish is kept. On the pool it builds inside
     /// the cell, on the calling thread.
+    #[inline]
     fn factor_table(&self) -> &FactorTable {
-        if let Some(table) = self.factor.get() {
-            return table;
+        match self.factor.get() {
+            Some(table) => table,
+            None => self.factor_table_first_use(),
         }
+    }
+
+    #[cold]
+    fn factor_table_first_use(&self) -> &FactorTable {
         if rayon::current_thread_index().is_none() {
             let _ = self.factor.set(self.build_factor_table(true));
         }
