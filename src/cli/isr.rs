@@ -216,7 +216,11 @@ pub fn run(args: IsrArgs) -> Result<()> {
         } else {
             observed.sigma_nb
         };
-        let mut row = Row::new()
+        let keys = 10
+            + 2 * usize::from(spread_mev > 0.0)
+            + usize::from(fsr_factor.is_some())
+            + 2 * usize::from(args.compare_radiators);
+        let mut row = Row::with_capacity(keys)
             .text("process", args.process.key())
             .num("sqrt_s_gev", sqrt_s)
             .num("sigma_born_nb", dressed.born().sigma_nb(s))

@@ -70,6 +70,11 @@ impl Row {
         Row(Vec::new())
     }
 
+    /// A row with room for `n` keys (a grid's rows: no regrowing, no slack).
+    pub fn with_capacity(n: usize) -> Self {
+        Row(Vec::with_capacity(n))
+    }
+
     /// A row from an already-built JSON object (the table writer's rows).
     pub fn from_map(map: Map<String, Value>) -> Self {
         Row(map
