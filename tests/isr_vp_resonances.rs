@@ -15,7 +15,7 @@
 
 mod common;
 use common::assert_rel;
-use radnorm::isr::{Cuts, Isr, Radiator, Scheme};
+use radnorm::isr::{Cuts, Isr, Observed, Radiator, Scheme};
 use radnorm::numeric::{Status, Tolerance, integrate_double_exponential};
 use radnorm::process::{CrossSection, Feature, FermionPair};
 use radnorm::rmodel::Region;
@@ -167,20 +167,25 @@ fn narrow_vp_resonances_in_range_take_the_fixed_path_and_agree() {
             got.panels,
             got.evaluations
         );
-        let want = reference(&dressed, s, got.x_max, &peaks);
-        assert_rel(
-            &format!("{what} vs tanh–sinh reference"),
-            got.sigma_nb,
-            want,
-            VS_REFERENCE,
-        );
-        let true_error = (got.sigma_nb - want).abs();
-        assert!(
-            true_error <= got.error_nb + REFERENCE_PRECISION * want,
-            "{what}: true error {true_error:e} > estimate {:e}",
-            got.error_nb
-        );
+        agrees_with_reference(&what, &got, reference(&dressed, s, got.x_max, &peaks));
     }
+}
+
+/// `got` within [`VS_REFERENCE`] of the reference `want`, and its error estimate covering
+/// the true error (with the reference's own precision).
+fn agrees_with_reference(what: &str, got: &Observed, want: f64) {
+    assert_rel(
+        &format!("{what} vs tanh–sinh reference"),
+        got.sigma_nb,
+        want,
+        VS_REFERENCE,
+    );
+    let true_error = (got.sigma_nb - want).abs();
+    assert!(
+        true_error <= got.error_nb + REFERENCE_PRECISION * want,
+        "{what}: true error {true_error:e} > estimate {:e}",
+        got.error_nb
+    );
 }
 
 #[test]
@@ -302,19 +307,7 @@ fn a_dense_grid_shares_the_far_part_and_agrees_point_by_point() {
                 2e-8,
             );
             if k % 40 == 7 {
-                let want = reference(&dressed, s, got.x_max, &peaks);
-                assert_rel(
-                    &format!("{at} vs tanh–sinh reference"),
-                    got.sigma_nb,
-                    want,
-                    VS_REFERENCE,
-                );
-                let true_error = (got.sigma_nb - want).abs();
-                assert!(
-                    true_error <= got.error_nb + REFERENCE_PRECISION * want,
-                    "{at}: true error {true_error:e} > estimate {:e}",
-                    got.error_nb
-                );
+                agrees_with_reference(&at, got, reference(&dressed, s, got.x_max, &peaks));
             }
         }
     }

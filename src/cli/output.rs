@@ -345,43 +345,39 @@ impl Leaf<'_> {
 /// which is restored on return).
 fn for_each_leaf<'a>(row: &'a Row, prefix: &mut String, visit: &mut impl FnMut(&str, Leaf<'a>)) {
     for (k, v) in &row.0 {
-        let len = prefix.len();
-        prefix.push_str(k);
-        match v {
-            Cell::Nested(inner) => {
-                prefix.push('.');
-                for_each_leaf(inner, prefix, visit);
-            }
-            Cell::Json(json) => match &**json {
-                Value::Object(map) => {
-                    prefix.push('.');
-                    for_each_json_leaf(map, prefix, visit);
-                }
-                leaf => visit(prefix, Leaf::Json(leaf)),
-            },
+        under_key(prefix, k, |prefix| match v {
+            Cell::Nested(inner) => for_each_leaf(inner, prefix, visit),
+            Cell::Json(json) => for_each_json_leaf(json, prefix, visit),
             leaf => visit(prefix, Leaf::Cell(leaf)),
-        }
-        prefix.truncate(len);
+        });
     }
 }
 
+/// [`for_each_leaf`] for a JSON value (an object's members are `parent.child`).
 fn for_each_json_leaf<'a>(
-    map: &'a Map<String, Value>,
+    value: &'a Value,
     prefix: &mut String,
     visit: &mut impl FnMut(&str, Leaf<'a>),
 ) {
-    for (k, v) in map {
-        let len = prefix.len();
-        prefix.push_str(k);
-        match v {
-            Value::Object(inner) => {
-                prefix.push('.');
-                for_each_json_leaf(inner, prefix, visit);
+    match value {
+        Value::Object(map) => {
+            for (k, v) in map {
+                under_key(prefix, k, |prefix| for_each_json_leaf(v, prefix, visit));
             }
-            leaf => visit(prefix, Leaf::Json(leaf)),
         }
-        prefix.truncate(len);
+        leaf => visit(prefix, Leaf::Json(leaf)),
     }
+}
+
+/// Run `f` with `k` appended to the flattened key `prefix` (after a dot, unless first).
+fn under_key(prefix: &mut String, k: &str, f: impl FnOnce(&mut String)) {
+    let len = prefix.len();
+    if len > 0 {
+        prefix.push('.');
+    }
+    prefix.push_str(k);
+    f(prefix);
+    prefix.truncate(len);
 }
 
 /// A row's leaves as (flattened key, value).

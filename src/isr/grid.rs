@@ -34,14 +34,14 @@ use crate::numeric::Status;
 use crate::process::{CrossSection, Feature};
 use rayon::prelude::*;
 
-/// Chebyshev nodes of the far part per run.
+/// Chebyshev nodes of a run's interpolant (of σ_obs, or of its far part).
 const NODES: usize = 20;
 /// A run covers s ∈ [s_a, s_a(1 + RUN_SPAN)].
 const RUN_SPAN: f64 = 0.1;
 /// The split s_c starts at s_a/(1 + SPLIT_GAP) (the near part reaches x ≈ 0.05–0.15).
 const SPLIT_GAP: f64 = 0.05;
-/// A run of fewer energies than this is integrated point by point (the far nodes would
-/// cost more than they save).
+/// A run of fewer energies than this is integrated point by point (its nodes would cost
+/// more than they save).
 const MIN_RUN: usize = 2 * NODES;
 /// The split keeps this relative distance in s from any threshold or cusp (a √ edge at a
 /// panel's end is integrated, but slowly); it moves down in such steps until clear.
