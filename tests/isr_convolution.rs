@@ -125,6 +125,51 @@ fn agrees_with_mpmath_at_30_digits() {
             got.error_nb
         );
     }
+    // The grid path (`Isr::observe_many`, σ_obs interpolated across runs of energies): the
+    // open-range references at √s = 10 and 1 GeV inside dense grids, given in reverse
+    // order, twice, beside a point below the μμ threshold.
+    let link = isr(Scheme::KuraevFadin2, None);
+    let dense =
+        |lo: f64, hi: f64| (0..400).map(move |k| (lo + (hi - lo) * k as f64 / 399.0).powi(2));
+    let mut s: Vec<f64> = dense(9.0, 11.0).chain(dense(0.8, 1.2)).collect();
+    s.extend([100.0, 1.0, 100.0, 0.01]);
+    s.reverse();
+    let many = link.observe_many(&mumu, &s);
+    for (got, &s_k) in many.iter().zip(&s) {
+        let got = got.as_ref().unwrap();
+        let name = match s_k {
+            100.0 => "kf2_10_open",
+            1.0 => "kf2_1_open",
+            0.01 => {
+                assert_eq!(got.sigma_nb, 0.0, "below the threshold: {got:?}");
+                continue;
+            }
+            _ => continue,
+        };
+        let alone = link.observe(&mumu, s_k).unwrap();
+        assert!(
+            2 * got.evaluations < alone.evaluations,
+            "{name} on the grid: {} evaluations, {} alone: not interpolated",
+            got.evaluations,
+            alone.evaluations
+        );
+        assert!(
+            got.error_nb <= 1e-8 * got.sigma_nb,
+            "{name} on the grid: {got:?}"
+        );
+        assert_rel(
+            &format!("isr {name} on the grid vs mpmath"),
+            got.sigma_nb,
+            want[name],
+            VS_MPMATH,
+        );
+        let true_error = (got.sigma_nb - want[name]).abs();
+        assert!(
+            true_error <= got.error_nb + 1e-13 * want[name],
+            "{name} on the grid: true error {true_error:e} > estimate {:e}",
+            got.error_nb
+        );
+    }
 }
 
 #[test]
