@@ -183,9 +183,12 @@ pub struct Observed {
     pub error_nb: f64,
     /// The upper limit of x actually used (cuts and threshold).
     pub x_max: f64,
-    /// Evaluations of σ_d.
+    /// Evaluations of σ_d (for a point of [`Isr::observe_many`]: its own and its share of
+    /// its run's).
     pub evaluations: usize,
-    /// Panels of the fixed path; 0 where the adaptive path ran (or nothing passed).
+    /// Panels of the fixed path; 0 where the adaptive path ran (or nothing passed). For a
+    /// point of [`Isr::observe_many`], those of its own integral, or, where σ_obs was
+    /// interpolated, the most any of the run's integrals took.
     pub panels: usize,
     pub status: Status,
 }
