@@ -121,7 +121,7 @@ impl Rule {
     /// when s_th < q): pole subtraction with g(q)·q/s, whose principal value is
     /// g(q)·ln(s_th/(q − s_th)) in closed form.
     ///
-    /// The sum runs in [`LANES`] interleaved partial sums, branch-free, so that the
+    /// The sum runs in eight interleaved partial sums, branch-free, so that the
     /// divisions (the cost of every table build: ~2800 nodes per q²) run vectorised; on
     /// x86-64 CPUs with AVX2 from a copy compiled for it (both copies give the same bits).
     pub fn principal_value(&self, g: &[f64], q: f64, g_q: f64) -> f64 {
