@@ -134,6 +134,7 @@ impl Isr {
         runs
     }
 
+    /// Each point on its own ([`Isr::observe`]).
     fn observe_alone<C: CrossSection + ?Sized>(
         &self,
         sigma: &C,
