@@ -291,3 +291,38 @@ fn a_dense_grid_agrees_with_its_points_run_alone() {
         }
     }
 }
+
+#[test]
+fn a_grid_says_which_values_were_interpolated() {
+    // How a value was made is in the output: a dense grid says how many of its energies
+    // were interpolated; a grid with an x_max cut (each point alone) and a single point
+    // say nothing of it.
+    let csv = |args: &[&str]| {
+        let out = radnorm()
+            .args(["isr", "--process", "mumu", "--format", "csv"])
+            .args(args)
+            .output()
+            .unwrap();
+        assert!(out.status.success(), "{args:?}");
+        String::from_utf8(out.stdout).unwrap()
+    };
+    let note = |text: &str| {
+        text.lines()
+            .find(|l| l.starts_with("# sigma_obs at ") && l.contains("interpolated"))
+            .map(str::to_string)
+    };
+    let dense = csv(&["--sqrt-s", "3.3:3.7:401"]);
+    let line = note(&dense).expect("a dense grid's note");
+    // "# sigma_obs at N of 401 energies ...": most of them (a short last run goes alone).
+    let n: usize = line["# sigma_obs at ".len()..]
+        .split(' ')
+        .next()
+        .and_then(|n| n.parse().ok())
+        .expect("a count");
+    assert!(line.contains(" of 401 energies") && n >= 300, "{line}");
+    assert_eq!(
+        note(&csv(&["--sqrt-s", "3.3:3.7:401", "--x-max", "0.5"])),
+        None
+    );
+    assert_eq!(note(&csv(&["--sqrt-s", "3.5"])), None);
+}

@@ -264,6 +264,14 @@ pub fn run(args: IsrArgs) -> Result<()> {
             .map(point)
             .collect::<Result<Vec<Row>>>()?
     };
+    let interpolated = observed.iter().filter(|o| o.interpolated).count();
+    if interpolated > 0 {
+        // Beside the accuracy note, before the constants' editions.
+        notes.insert(notes.len() - 1, format!(
+            "sigma_obs at {interpolated} of {} energies interpolated across runs of nearby energies (Chebyshev, 20 nodes: sigma_obs itself away from sigma_d's structures, its part from s' below the run near them); isr_integration_error_nb includes the interpolation's estimate",
+            observed.len()
+        ));
+    }
     let mut report = Report::new(rows);
     for n in notes {
         report = report.note(n);

@@ -190,6 +190,9 @@ pub struct Observed {
     /// point of [`Isr::observe_many`], those of its own integral, or, where σ_obs was
     /// interpolated, the most any of the run's integrals took.
     pub panels: usize,
+    /// Whether σ_obs, or its part from s′ far below, was interpolated across a run of
+    /// energies ([`Isr::observe_many`]) rather than integrated at this energy.
+    pub interpolated: bool,
     pub status: Status,
 }
 
@@ -673,6 +676,7 @@ impl Isr {
             x_max,
             evaluations: 0,
             panels: 0,
+            interpolated: false,
             status: Status::Converged,
         };
         let setup: Setup<MAX_BREAKS> = self.setup(
@@ -823,6 +827,7 @@ impl Isr {
             x_max: panels.last.x,
             evaluations,
             panels: n,
+            interpolated: false,
             status: Status::Converged,
         })
     }
@@ -905,6 +910,7 @@ impl Isr {
             x_max,
             evaluations: head.evaluations + tail.evaluations,
             panels: 0,
+            interpolated: false,
             status,
         }
     }

@@ -188,6 +188,7 @@ impl Isr {
                     x_max,
                     evaluations: share,
                     panels,
+                    interpolated: true,
                     status: Status::Converged,
                 });
                 (i, r)
@@ -242,6 +243,7 @@ impl Isr {
                         sigma_nb: value,
                         error_nb: error,
                         evaluations: near.evaluations + share,
+                        interpolated: true,
                         ..near
                     })
                 } else {
