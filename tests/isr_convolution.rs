@@ -3,9 +3,9 @@
 //! narrow-resonance closed form, and the physics each number shows.
 
 mod common;
-use common::{assert_rel, parse_key_values, python_reference};
+use common::{assert_rel, assert_within_estimate, parse_key_values, python_reference};
 use radnorm::constants::{ALPHA, M_MU_GEV};
-use radnorm::isr::{Cuts, Isr, Radiated, Radiator, Scheme};
+use radnorm::isr::{Cuts, Isr, Observed, Radiated, Radiator, Scheme};
 use radnorm::process::{CrossSection, Feature, FermionPair};
 use std::f64::consts::PI;
 
@@ -111,19 +111,8 @@ fn agrees_with_mpmath_at_30_digits() {
             got.error_nb <= 1e-8 * got.sigma_nb,
             "{name}: error estimate {got:?}"
         );
-        assert_rel(
-            &format!("isr {name} vs mpmath"),
-            got.sigma_nb,
-            want[name],
-            VS_MPMATH,
-        );
         // The error estimate is honest: it covers the true error (with f64 rounding, 1e-13).
-        let true_error = (got.sigma_nb - want[name]).abs();
-        assert!(
-            true_error <= got.error_nb + 1e-13 * want[name],
-            "{name}: true error {true_error:e} > estimate {:e}",
-            got.error_nb
-        );
+        agrees_with_mpmath(name, &got, want[name], 1e-13);
     }
     // The grid path (`Isr::observe_many`, σ_obs interpolated across runs of energies): the
     // open-range references at √s = 10 and 1 GeV inside dense grids, given in reverse
@@ -157,19 +146,16 @@ fn agrees_with_mpmath_at_30_digits() {
             got.error_nb <= 1e-8 * got.sigma_nb,
             "{name} on the grid: {got:?}"
         );
-        assert_rel(
-            &format!("isr {name} on the grid vs mpmath"),
-            got.sigma_nb,
-            want[name],
-            VS_MPMATH,
-        );
-        let true_error = (got.sigma_nb - want[name]).abs();
-        assert!(
-            true_error <= got.error_nb + 1e-13 * want[name],
-            "{name} on the grid: true error {true_error:e} > estimate {:e}",
-            got.error_nb
-        );
+        agrees_with_mpmath(&format!("{name} on the grid"), got, want[name], 1e-13);
     }
+}
+
+/// `got` within [`VS_MPMATH`] of the mpmath value `want`, its error estimate covering the
+/// true error up to `rounding` (relative) of f64 arithmetic.
+#[track_caller]
+fn agrees_with_mpmath(what: &str, got: &Observed, want: f64, rounding: f64) {
+    let what = format!("isr {what} vs mpmath");
+    assert_within_estimate(&what, got.sigma_nb, got.error_nb, want, VS_MPMATH, rounding);
 }
 
 #[test]
@@ -201,22 +187,11 @@ fn sqrt_s_on_and_next_to_a_peak_agrees_with_mpmath_on_the_fixed_path() {
             got.panels,
             got.evaluations
         );
-        assert_rel(
-            &format!("isr {name} vs mpmath"),
-            got.sigma_nb,
-            want[name],
-            VS_MPMATH,
-        );
         // The error estimate covers the true error up to f64 rounding, which a peak
         // amplifies: σ_d's condition number in s′ is up to s/(MΓ) there, times the two
         // roundings of s′ = s(1 − x) (≈ 1.5e-11 relative for the narrow peak; seen 4e-12).
         let rounding = (2.0 * f64::EPSILON * rs * rs / (m * gamma)).max(1e-13);
-        let true_error = (got.sigma_nb - want[name]).abs();
-        assert!(
-            true_error <= got.error_nb + rounding * want[name],
-            "{name}: true error {true_error:e} > estimate {:e}",
-            got.error_nb
-        );
+        agrees_with_mpmath(name, &got, want[name], rounding);
     }
 }
 

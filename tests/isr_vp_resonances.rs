@@ -14,7 +14,7 @@
 //! search on σ_d (not at the features the VP reports), to 1e-12 relative.
 
 mod common;
-use common::assert_rel;
+use common::{assert_rel, assert_within_estimate};
 use radnorm::isr::{Cuts, Isr, Observed, Radiator, Scheme};
 use radnorm::numeric::{Status, Tolerance, integrate_double_exponential};
 use radnorm::process::{CrossSection, Feature, FermionPair};
@@ -173,19 +173,11 @@ fn narrow_vp_resonances_in_range_take_the_fixed_path_and_agree() {
 
 /// `got` within [`VS_REFERENCE`] of the reference `want`, and its error estimate covering
 /// the true error (with the reference's own precision).
+#[track_caller]
 fn agrees_with_reference(what: &str, got: &Observed, want: f64) {
-    assert_rel(
-        &format!("{what} vs tanh–sinh reference"),
-        got.sigma_nb,
-        want,
-        VS_REFERENCE,
-    );
-    let true_error = (got.sigma_nb - want).abs();
-    assert!(
-        true_error <= got.error_nb + REFERENCE_PRECISION * want,
-        "{what}: true error {true_error:e} > estimate {:e}",
-        got.error_nb
-    );
+    let what = format!("{what} vs tanh–sinh reference");
+    let (tol, own) = (VS_REFERENCE, REFERENCE_PRECISION);
+    assert_within_estimate(&what, got.sigma_nb, got.error_nb, want, tol, own);
 }
 
 #[test]

@@ -201,7 +201,9 @@ pub fn run(args: IsrArgs) -> Result<()> {
     };
     let point = |i: usize| -> Result<Row> {
         let (sqrt_s, s, observed) = (grid.points()[i], s_values[i], &observed[i]);
-        let sigma_dressed = dressed.sigma_nb(s);
+        // σ_dressed = σ_born·|1/(1 − Π)|², as `Dressed::sigma_nb` forms it (same bits).
+        let (sigma_born, vp_factor) = (dressed.born().sigma_nb(s), dressed.vp_factor(s));
+        let sigma_dressed = sigma_born * vp_factor;
         let ratio = |obs: f64| {
             if sigma_dressed > 0.0 {
                 obs / sigma_dressed
@@ -216,18 +218,14 @@ pub fn run(args: IsrArgs) -> Result<()> {
         } else {
             observed.sigma_nb
         };
-        let keys = 10
-            + 2 * usize::from(spread_mev > 0.0)
-            + usize::from(fsr_factor.is_some())
-            + 2 * usize::from(args.compare_radiators);
-        let mut row = Row::with_capacity(keys)
+        let mut row = Row::new()
             .text("process", args.process.key())
             .num("sqrt_s_gev", sqrt_s)
-            .num("sigma_born_nb", dressed.born().sigma_nb(s))
+            .num("sigma_born_nb", sigma_born)
             .num("sigma_dressed_nb", sigma_dressed)
             .num("sigma_obs_nb", sigma_obs)
             .num("one_plus_delta", ratio(sigma_obs))
-            .num("vp_factor", dressed.vp_factor(s))
+            .num("vp_factor", vp_factor)
             .text("radiator", scheme.key())
             .num("x_max", observed.x_max)
             .num("isr_integration_error_nb", observed.error_nb);
@@ -250,7 +248,7 @@ pub fn run(args: IsrArgs) -> Result<()> {
             }
             row = row.nested("radiators", nested).num("spread", hi - lo);
         }
-        Ok(row)
+        Ok(row.shrunk())
     };
     // A row is a few table lookups unless a spread is folded in: then it is a convolution
     // worth spreading over threads (rows built across threads also cost the allocator more).

@@ -26,7 +26,7 @@
 //! breakpoints at the features and around every peak, which reports its own error.
 
 use super::{Cuts, IsrError, Order, Radiator, Scheme};
-use crate::numeric::{GaussLegendre, Status, Tolerance, fast, integrate};
+use crate::numeric::{GaussLegendre, Integral, Status, Tolerance, fast, integrate};
 use crate::process::{CrossSection, Feature};
 use num_complex::Complex64;
 use std::sync::OnceLock;
@@ -251,10 +251,6 @@ impl Panel {
             return 0.0;
         };
         let l = hi - lo;
-        let rho = |z: Complex64| {
-            let w = (z * z - 1.0).sqrt();
-            (z + w).norm().max((z - w).norm())
-        };
         match (at_lo, at_hi) {
             (End::Root, End::Root) => {
                 // v = lo + l u²(3 − 2u) = 0: with u = (1 + z)/2 the cubic
@@ -264,13 +260,20 @@ impl Panel {
                 let d = (0.25 * q * q - 1.0).max(0.0).sqrt();
                 let (a, b) = ((-0.5 * q + d).cbrt(), (-0.5 * q - d).cbrt());
                 let pair = Complex64::new(-0.5 * (a + b), 0.5 * 3f64.sqrt() * (a - b));
-                rho(Complex64::new(a + b, 0.0)).min(rho(pair))
+                bernstein_rho(Complex64::new(a + b, 0.0)).min(bernstein_rho(pair))
             }
-            (End::Root, _) => rho(Complex64::new(2.0 * (-lo / l).sqrt() - 1.0, 0.0)),
-            (_, End::Root) => rho(Complex64::new(1.0, -2.0 * (-hi / l).sqrt())),
-            _ => rho(Complex64::new(-2.0 * lo / l - 1.0, 0.0)),
+            (End::Root, _) => bernstein_rho(Complex64::new(2.0 * (-lo / l).sqrt() - 1.0, 0.0)),
+            (_, End::Root) => bernstein_rho(Complex64::new(1.0, -2.0 * (-hi / l).sqrt())),
+            _ => bernstein_rho(Complex64::new(-2.0 * lo / l - 1.0, 0.0)),
         }
     }
+}
+
+/// The Bernstein ρ of a point z of the complex plane for a rule on [−1, 1]: the ellipse with
+/// foci ±1 through z has ρ = |z ± √(z² − 1)| (the larger).
+fn bernstein_rho(z: Complex64) -> f64 {
+    let w = (z * z - 1.0).sqrt();
+    (z + w).norm().max((z - w).norm())
 }
 
 /// The radiator side of the integrand at one s: for a rule node, the weight that multiplies
@@ -500,8 +503,9 @@ struct Panels<const N: usize> {
     /// The head's limit in x set by peaks at or above √s ([`NEAR_ZERO_WIDTHS`]), and
     /// whether it must apply (a peak within the head's reach that is not a break).
     at_sqrt_s: Option<(f64, bool)>,
-    /// Where the range starts: None from x = 0 (the head panel first), else a plain end
-    /// inside (0, x_max) (the far piece of [`Isr::observe_range`]).
+    /// Where the range starts: None from x = 0 (the head panel first), else a break inside
+    /// (0, x_max), plain or graded towards a peak just before it (the far piece of
+    /// [`Isr::observe_range`]).
     start: Option<Break>,
     last: Break,
 }
@@ -661,8 +665,9 @@ impl Isr {
     }
 
     /// The part of [`Isr::observe`] from x ∈ [x_lo, x_hi] (0 ≤ x_lo < x_hi ≤ 1, within
-    /// the cuts), for the pieces [`Isr::observe_many`] splits it into. An end inside the
-    /// range is treated as plain: σ_d must be smooth there. `x_max` reports the cuts' limit.
+    /// the cuts), for the pieces [`Isr::observe_many`] splits it into. A peak just outside
+    /// an end inside the range grades the panel there; an edge there is not looked for (the
+    /// caller keeps its split clear of edges). `x_max` reports the cuts' limit.
     pub(super) fn observe_range<C: CrossSection + ?Sized>(
         &self,
         sigma: &C,
@@ -875,12 +880,7 @@ impl Isr {
         let v_breaks: Vec<f64> = xs.iter().map(|&x| (-x).ln_1p()).collect();
         let tol = Tolerance::relative(self.rel_tol);
         let head = if x_lo > 0.0 {
-            crate::numeric::Integral {
-                value: 0.0,
-                error: 0.0,
-                evaluations: 0,
-                status: Status::Converged,
-            }
+            Integral::ZERO
         } else {
             integrate(|t| f.head(t, t.ln()), 0.0, x0.powf(beta), &t_breaks, tol)
         };
@@ -893,12 +893,7 @@ impl Isr {
                 tol,
             )
         } else {
-            crate::numeric::Integral {
-                value: 0.0,
-                error: 0.0,
-                evaluations: 0,
-                status: Status::Converged,
-            }
+            Integral::ZERO
         };
         let status = match (head.status, tail.status) {
             (Status::Converged, st) => st,
@@ -1049,10 +1044,8 @@ const MAX_PIECES: usize = 8;
 fn log_panels(a: Break, b: Break, beyond: [Option<Break>; 2], emit: &mut impl FnMut(Panel)) {
     // v = ln(1 − x) decreases with x: the lower v end is b.
     let (lo, hi) = (b.v, a.v);
-    // Whether the breaks beyond both ends are at least the interval's length away (with a
-    // peak's width): only then may its plain pieces take the cheaper rules (`Rules::pair`).
-    // (Distances of order 1 and below: √(a² + b²) without hypot's scaling.)
-    // The distance in v from the interval to a break beyond it (to a peak's pole).
+    // The distance in v from the interval to a break beyond it (to a peak's pole; distances
+    // of order 1 and below: √(a² + b²) without hypot's scaling).
     let gap = |n: &Break| {
         let gap = (lo - n.v).max(n.v - hi).max(0.0);
         match n.end {
@@ -1060,6 +1053,8 @@ fn log_panels(a: Break, b: Break, beyond: [Option<Break>; 2], emit: &mut impl Fn
             _ => gap,
         }
     };
+    // Whether the breaks beyond both ends are at least the interval's length away: only then
+    // may its plain pieces take the cheaper rules (`Rules::pair`).
     let clear = beyond.iter().flatten().all(|n| match n.end {
         End::Peak { .. } => gap(n) >= hi - lo,
         _ => gap(n) >= EDGE_CLEAR * (hi - lo),
@@ -1278,10 +1273,6 @@ mod tests {
     /// preimages), and through the plain map against the closed form.
     #[test]
     fn soft_rho_finds_the_nearest_preimage() {
-        let rho = |z: Complex64| {
-            let w = (z * z - 1.0).sqrt();
-            (z + w).norm().max((z - w).norm())
-        };
         for (lo, hi) in [(-1.2, -0.2), (-2.0, -1.0), (-5.0, -4.0), (-0.35, -0.05)] {
             let panel = Panel::Log {
                 lo,
@@ -1302,7 +1293,7 @@ mod tests {
                         z -= f(z) / df(z);
                     }
                     if f(z).norm() < 1e-12 {
-                        best = best.min(rho(z));
+                        best = best.min(bernstein_rho(z));
                     }
                 }
             }

@@ -65,22 +65,17 @@ impl Isr {
         let mut order: Vec<usize> = (0..s_gev2.len()).collect();
         order.sort_by(|&i, &j| s_gev2[i].total_cmp(&s_gev2[j]));
         let runs = self.runs(sigma, s_gev2, &order);
-        let mut out: Vec<Option<Result<Observed, IsrError>>> = vec![None; s_gev2.len()];
-        let done: Vec<Vec<(usize, Result<Observed, IsrError>)>> = runs
+        // The runs partition the energies: every index comes back once.
+        let mut done: Vec<(usize, Result<Observed, IsrError>)> = runs
             .par_iter()
-            .map(|run| match run.kind {
+            .flat_map_iter(|run| match run.kind {
                 Kind::Whole => self.observe_whole(sigma, s_gev2, &run.points),
                 Kind::Split { s_c } => self.observe_split(sigma, s_gev2, &run.points, s_c),
                 Kind::Alone => self.observe_alone(sigma, s_gev2, &run.points),
             })
             .collect();
-        for (i, r) in done.into_iter().flatten() {
-            out[i] = Some(r);
-        }
-        out.into_iter()
-            .zip(s_gev2)
-            .map(|(r, &s)| r.unwrap_or_else(|| self.observe(sigma, s)))
-            .collect()
+        done.sort_unstable_by_key(|&(i, _)| i);
+        done.into_iter().map(|(_, r)| r).collect()
     }
 
     /// The energies (indices in increasing s) cut into runs: whole where a long enough

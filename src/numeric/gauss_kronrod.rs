@@ -146,12 +146,7 @@ pub fn integrate<F: FnMut(f64) -> f64>(
     tol: Tolerance,
 ) -> Integral {
     if a == b {
-        return Integral {
-            value: 0.0,
-            error: 0.0,
-            evaluations: 0,
-            status: Status::Converged,
-        };
+        return Integral::ZERO;
     }
     let (lo, hi, sign) = if a < b { (a, b, 1.0) } else { (b, a, -1.0) };
     let mut edges = vec![lo];

@@ -52,6 +52,14 @@ pub struct Integral {
 }
 
 impl Integral {
+    /// The integral over an empty range.
+    pub const ZERO: Integral = Integral {
+        value: 0.0,
+        error: 0.0,
+        evaluations: 0,
+        status: Status::Converged,
+    };
+
     /// True when the tolerance was met and every integrand value was finite.
     pub fn converged(&self) -> bool {
         self.status == Status::Converged

@@ -39,6 +39,26 @@ pub fn assert_abs(what: &str, got: f64, want: f64, tol: f64) {
     );
 }
 
+/// Assert that an integral `got` ± its estimated error `error` agrees with an independent
+/// value `want` to `tol` and that the estimate covers the true error, up to `rounding`
+/// (relative) of f64 arithmetic: the error estimate is honest, not only the value close.
+#[track_caller]
+pub fn assert_within_estimate(
+    what: &str,
+    got: f64,
+    error: f64,
+    want: f64,
+    tol: f64,
+    rounding: f64,
+) {
+    assert_rel(what, got, want, tol);
+    let true_error = (got - want).abs();
+    assert!(
+        true_error <= error + rounding * want.abs(),
+        "{what}: true error {true_error:e} > estimate {error:e}"
+    );
+}
+
 /// The repository root (for reading shipped tables and reference scripts; tests never write here).
 pub fn repo_root() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR"))

@@ -74,6 +74,11 @@ def threshold_x(sqrt_s):
     return 1 - 4 * MMU**2 / mp.mpf(sqrt_s) ** 2
 
 
+# Breit-Wigner peaks (M GeV, Gamma GeV, sigma_p nb): a J/psi-like narrow one (M = 3.0969 GeV,
+# Gamma = 92.6 keV, 3000 nb) and a 40 MeV wide one of 30 nb at 5.2 GeV.
+NARROW = (mp.mpf("3.0969"), mp.mpf("92.6e-6"), mp.mpf(3000))
+WIDE = (mp.mpf("5.2"), mp.mpf("0.04"), mp.mpf(30))
+
 cases = {
     "kf2_3_half": (3, mp.mpf("0.5"), "kf2", None),
     "kf2_10_half": (10, mp.mpf("0.5"), "kf2", None),
@@ -82,21 +87,15 @@ cases = {
     "kf2_025_open": (mp.mpf("0.25"), threshold_x(mp.mpf("0.25")), "kf2", None),
     "exp1_10_half": (10, mp.mpf("0.5"), "exp1", None),
     "sfll_10_half": (10, mp.mpf("0.5"), "sfll", None),
-    # A J/psi-like narrow peak (M = 3.0969 GeV, Gamma = 92.6 keV, 3000 nb) below sqrt(s).
-    "kf2_bw_32_half": (mp.mpf("3.2"), mp.mpf("0.5"), "kf2",
-                       (mp.mpf("3.0969"), mp.mpf("92.6e-6"), mp.mpf(3000))),
-    # sqrt(s) on a peak, just below it and just above it: a 40 MeV wide peak of 30 nb at
-    # 5.2 GeV (a scan across a resonance) and the narrow one above.
-    "kf2_bw40_on": (mp.mpf("5.2"), mp.mpf("0.5"), "kf2",
-                    (mp.mpf("5.2"), mp.mpf("0.04"), mp.mpf(30))),
-    "kf2_bw40_below": (mp.mpf("5.15"), mp.mpf("0.5"), "kf2",
-                       (mp.mpf("5.2"), mp.mpf("0.04"), mp.mpf(30))),
-    "kf2_bw40_above": (mp.mpf("5.26"), mp.mpf("0.5"), "kf2",
-                       (mp.mpf("5.2"), mp.mpf("0.04"), mp.mpf(30))),
-    "kf2_narrow_on": (mp.mpf("3.0969"), mp.mpf("0.5"), "kf2",
-                      (mp.mpf("3.0969"), mp.mpf("92.6e-6"), mp.mpf(3000))),
-    "kf2_narrow_below": (mp.mpf("3.0967"), mp.mpf("0.5"), "kf2",
-                         (mp.mpf("3.0969"), mp.mpf("92.6e-6"), mp.mpf(3000))),
+    # The J/psi-like narrow peak below sqrt(s).
+    "kf2_bw_32_half": (mp.mpf("3.2"), mp.mpf("0.5"), "kf2", NARROW),
+    # sqrt(s) on a peak, just below it and just above it: the 40 MeV wide peak (a scan
+    # across a resonance) and the narrow one above.
+    "kf2_bw40_on": (mp.mpf("5.2"), mp.mpf("0.5"), "kf2", WIDE),
+    "kf2_bw40_below": (mp.mpf("5.15"), mp.mpf("0.5"), "kf2", WIDE),
+    "kf2_bw40_above": (mp.mpf("5.26"), mp.mpf("0.5"), "kf2", WIDE),
+    "kf2_narrow_on": (mp.mpf("3.0969"), mp.mpf("0.5"), "kf2", NARROW),
+    "kf2_narrow_below": (mp.mpf("3.0967"), mp.mpf("0.5"), "kf2", NARROW),
 }
 for name, (rs, xm, scheme, bw) in cases.items():
     print(name, mp.nstr(observed(rs, xm, scheme, bw), 20))
