@@ -5,7 +5,7 @@ use anyhow::{Result, anyhow, bail};
 use clap::{Args, ValueEnum};
 use rayon::prelude::*;
 
-use super::output::{OutputArgs, Report, Row, emit};
+use super::output::{OutputArgs, Report, Row, emit, rows_in_order};
 use super::{flag_error, parse_energy_grid};
 use radnorm::isr::{Cuts, Isr, IsrError, Observed, Radiated, Scheme, Smeared, schwinger_factor};
 use radnorm::process::{ConstantR, CrossSection, FermionPair, Hadrons, RRatio};
@@ -199,7 +199,7 @@ pub fn run(args: IsrArgs) -> Result<()> {
     } else {
         Vec::new()
     };
-    let point = |i: usize| -> Result<Row> {
+    let point = |i: usize, row: Row| -> Result<Row> {
         let (sqrt_s, s, observed) = (grid.points()[i], s_values[i], &observed[i]);
         // σ_dressed = σ_born·|1/(1 − Π)|², as `Dressed::sigma_nb` forms it (same bits).
         let (sigma_born, vp_factor) = (dressed.born().sigma_nb(s), dressed.vp_factor(s));
@@ -218,7 +218,7 @@ pub fn run(args: IsrArgs) -> Result<()> {
         } else {
             observed.sigma_nb
         };
-        let mut row = Row::new()
+        let mut row = row
             .text("process", args.process.key())
             .num("sqrt_s_gev", sqrt_s)
             .num("sigma_born_nb", sigma_born)
@@ -248,19 +248,17 @@ pub fn run(args: IsrArgs) -> Result<()> {
             }
             row = row.nested("radiators", nested).num("spread", hi - lo);
         }
-        Ok(row.shrunk())
+        Ok(row)
     };
     // A row is a few table lookups unless a spread is folded in: then it is a convolution
     // worth spreading over threads (rows built across threads also cost the allocator more).
     let rows = if spread_mev > 0.0 {
         (0..s_values.len())
             .into_par_iter()
-            .map(point)
+            .map(|i| Ok(point(i, Row::new())?.shrunk()))
             .collect::<Result<Vec<Row>>>()?
     } else {
-        (0..s_values.len())
-            .map(point)
-            .collect::<Result<Vec<Row>>>()?
+        rows_in_order(s_values.len(), point)?
     };
     let interpolated = observed.iter().filter(|o| o.interpolated).count();
     if interpolated > 0 {

@@ -29,6 +29,7 @@ use chebyshev::Chebyshev;
 use num_complex::Complex64;
 use rule::Rule;
 use std::f64::consts::PI;
+use std::sync::OnceLock;
 
 /// |q²| range of the tables, GeV².
 const Q2_TABLE_MIN: f64 = 1e-6;
@@ -149,6 +150,18 @@ pub struct RegionValue {
     pub value: f64,
 }
 
+/// One smooth region of the model on the dispersion rule's nodes.
+#[derive(Debug, Clone)]
+struct RegionPart {
+    region: Region,
+    /// Its index in `RModel::smooth_region_parts`.
+    index: usize,
+    /// Its share of R/s.
+    share: Vec<f64>,
+    /// The 1σ uncertainty of that share.
+    unc: Vec<f64>,
+}
+
 /// The hadronic vacuum polarisation of one R model, tabulated.
 #[derive(Debug, Clone)]
 pub struct HadronicVp {
@@ -156,9 +169,9 @@ pub struct HadronicVp {
     rule: Rule,
     /// R_smooth(sᵢ)/sᵢ on the rule's nodes.
     g: Vec<f64>,
-    /// Per smooth region: (region, its index in `RModel::smooth_region_parts`, share of R/s,
-    /// 1σ uncertainty of R/s) on the nodes.
-    parts: Vec<(Region, usize, Vec<f64>, Vec<f64>)>,
+    /// Per smooth region, sampled when a breakdown is first asked for (~1 ms that Π alone
+    /// does not need).
+    parts: OnceLock<Vec<RegionPart>>,
     spacelike: Chebyshev,
     timelike: Chebyshev,
     /// Taylor coefficients of Re Π_smooth at q² = 0 (q² and q⁴ terms).
@@ -173,27 +186,6 @@ impl HadronicVp {
     pub fn new(model: RModel) -> Self {
         let SmoothRule { rule, g } = SmoothRule::new(&model);
         let (edges, knots, peaks) = smooth_breaks(&model);
-        let mut parts = Vec::new();
-        for (k, region) in [
-            Region::PiPi,
-            Region::Inclusive,
-            Region::Pqcd,
-            Region::TableSyst,
-        ]
-        .into_iter()
-        .enumerate()
-        {
-            if !model.regions().contains(&region) {
-                continue;
-            }
-            let share = rule
-                .s
-                .iter()
-                .map(|&s| model.smooth_region_parts(s)[k].1 / s)
-                .collect();
-            let unc = rule.s.iter().map(|&s| model.r_unc(region, s) / s).collect();
-            parts.push((region, k, share, unc));
-        }
         let c = -ALPHA / (3.0 * PI);
         let c1 = c * rule
             .s
@@ -238,7 +230,7 @@ impl HadronicVp {
             model,
             rule,
             g,
-            parts,
+            parts: OnceLock::new(),
             spacelike,
             timelike,
             c1,
@@ -338,15 +330,43 @@ impl HadronicVp {
         self.pi(q2).re
     }
 
+    /// R/s of each smooth region and its 1σ uncertainty on the rule's nodes.
+    fn parts(&self) -> &[RegionPart] {
+        self.parts.get_or_init(|| {
+            let (model, s) = (&self.model, &self.rule.s);
+            [
+                Region::PiPi,
+                Region::Inclusive,
+                Region::Pqcd,
+                Region::TableSyst,
+            ]
+            .into_iter()
+            .enumerate()
+            .filter(|(_, region)| model.regions().contains(region))
+            .map(|(index, region)| RegionPart {
+                region,
+                index,
+                share: s
+                    .iter()
+                    .map(|&s| model.smooth_region_parts(s)[index].1 / s)
+                    .collect(),
+                unc: s.iter().map(|&s| model.r_unc(region, s) / s).collect(),
+            })
+            .collect()
+        })
+    }
+
     /// Δα_had(q²) split by region of the R model (the values sum to [`Self::delta_alpha`]
     /// up to the table's interpolation error).
     pub fn breakdown(&self, q2: f64) -> Vec<RegionValue> {
         let mut out: Vec<RegionValue> = self
-            .parts
+            .parts()
             .iter()
-            .map(|(region, k, share, _)| RegionValue {
-                region: *region,
-                value: self.rule_re(share, q2, |s| self.model.smooth_region_parts(s)[*k].1),
+            .map(|p| RegionValue {
+                region: p.region,
+                value: self.rule_re(&p.share, q2, |s| {
+                    self.model.smooth_region_parts(s)[p.index].1
+                }),
             })
             .collect();
         let ln_q2 = log_q2(q2);
@@ -366,12 +386,12 @@ impl HadronicVp {
     /// between regions), and their sum in quadrature.
     pub fn uncertainty(&self, q2: f64) -> (Vec<RegionValue>, f64) {
         let mut out: Vec<RegionValue> = self
-            .parts
+            .parts()
             .iter()
-            .map(|(region, _, _, unc)| RegionValue {
-                region: *region,
+            .map(|p| RegionValue {
+                region: p.region,
                 value: self
-                    .rule_re(unc, q2, |s| self.model.r_unc(*region, s))
+                    .rule_re(&p.unc, q2, |s| self.model.r_unc(p.region, s))
                     .abs(),
             })
             .collect();
