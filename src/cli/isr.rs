@@ -7,7 +7,9 @@ use rayon::prelude::*;
 
 use super::output::{OutputArgs, Report, Row, emit, rows_in_order};
 use super::{flag_error, parse_energy_grid};
-use radnorm::isr::{Cuts, Isr, IsrError, Observed, Radiated, Scheme, Smeared, schwinger_factor};
+use radnorm::isr::{
+    Cuts, Isr, IsrError, Observed, RUN_NODES, Radiated, Scheme, Smeared, schwinger_factor,
+};
 use radnorm::process::{ConstantR, CrossSection, FermionPair, Hadrons, RRatio};
 use radnorm::rmodel::RModel;
 use radnorm::vp::{Dressed, Polarisation, Vp, VpChoice};
@@ -264,7 +266,7 @@ pub fn run(args: IsrArgs) -> Result<()> {
     if interpolated > 0 {
         // Beside the accuracy note, before the constants' editions.
         notes.insert(notes.len() - 1, format!(
-            "sigma_obs at {interpolated} of {} energies interpolated across runs of nearby energies (Chebyshev, 20 nodes: sigma_obs itself away from sigma_d's structures, its part from s' below the run near them); isr_integration_error_nb includes the interpolation's estimate",
+            "sigma_obs at {interpolated} of {} energies interpolated across runs of nearby energies (Chebyshev, {RUN_NODES} nodes: sigma_obs itself away from sigma_d's structures, its part from s' below the run near them); isr_integration_error_nb includes the interpolation's estimate",
             observed.len()
         ));
     }

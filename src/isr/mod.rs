@@ -15,6 +15,7 @@ mod spread;
 pub use convolve::{Isr, Observed, Radiated};
 pub use cuts::Cuts;
 pub use fsr::schwinger_factor;
+pub use grid::NODES as RUN_NODES;
 pub use radiator::{Radiator, Scheme};
 pub use spread::{Order, Smeared, visit_spread_nodes};
 
