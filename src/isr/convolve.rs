@@ -19,47 +19,56 @@
 //! resonances peak at the pole of 1/(1 − Π) (the PDG mass), ≈ 24 widths above the bare M²
 //! inside Π for the J/ψ, which [`crate::vp::Vp`] reports (see [`crate::vp::Vp::dressed_poles`]).
 //!
-//! Each panel is integrated with a pair of fixed Gauss–Legendre rules sized to its kind
-//! ([`HEAD_ORDERS`], [`LOG_ORDERS`], [`PEAK_ORDERS`]); the higher gives the value, the
-//! difference of the two is the error estimate. If it misses the requested
+//! Each panel is integrated with a fixed Gauss–Kronrod pair sized to its kind
+//! ([`HEAD_GAUSS`], [`LOG_GAUSS`], [`PEAK_GAUSS`]); the Kronrod rule gives the value, its
+//! difference with the Gauss rule on the same nodes the error estimate. If it misses the requested
 //! accuracy, the whole integral is redone by the adaptive Gauss–Kronrod integrator with
 //! breakpoints at the features and around every peak, which reports its own error.
 
 use super::{Cuts, IsrError, Order, Radiator, Scheme};
-use crate::numeric::{GaussLegendre, Integral, Status, Tolerance, fast, integrate};
+use crate::numeric::{Integral, KronrodPair, Status, Tolerance, fast, integrate};
 use crate::process::{CrossSection, Feature};
 use num_complex::Complex64;
 use std::sync::OnceLock;
 
-/// Points of the (value, estimate) Gauss–Legendre rules on the head panel. Its integrand
-/// in t = x^β is analytic in a Bernstein ellipse of ρ ≈ 1.6 at x₀ = 1/2 (s′ = 0, x = 1, sits
-/// at t = 1, just beyond t_max = 2^−β), so the 20-point rule's error is ~ρ⁻⁴⁰ ≈ 1e-8 of the
-/// head at worst and ~1e-10 typically; the 28-point value's is ~ρ⁻⁵⁶ ≈ 1e-11.
-const HEAD_ORDERS: [usize; 2] = [28, 20];
+/// Each panel kind's fixed rule is a Gauss–Kronrod pair ([`KronrodPair`]): the value from
+/// the (2n+1)-point Kronrod rule (exact to degree 3n + 1), the error estimate from its
+/// difference with the n-point Gauss rule on the same nodes, so the estimate costs no
+/// evaluations of its own. |Kronrod − Gauss| is about the Gauss rule's error, so n is what
+/// the estimate needs; the value is then better than the estimate says.
+///
+/// The head panel: its integrand in t = x^β is analytic in a Bernstein ellipse of ρ ≈ 1.6
+/// at x₀ = 1/2 (s′ = 0, x = 1, sits at t = 1, just beyond t_max = 2^−β), so the 20-point
+/// Gauss rule's error is ~ρ⁻⁴⁰ ≈ 1e-8 of the head at worst and ~1e-10 typically; the
+/// 41-point Kronrod value's ~ρ⁻⁶² ≈ 2e-13.
+const HEAD_GAUSS: usize = 20;
 /// The same for a panel in v = ln(1 − x) between two breaks (at most `MAX_LOG_PANEL` long,
 /// its neighbours' singularities at least its own length away or mapped by a square):
-/// ρ ≳ 2.5, so the 16-point estimate is ~ρ⁻³² ≲ 1e-12 and the 24-point value better still.
-const LOG_ORDERS: [usize; 2] = [24, 16];
+/// ρ ≳ 2.5, so the 16-point estimate is ~ρ⁻³² ≲ 1e-12 and the value better still.
+const LOG_GAUSS: usize = 16;
 /// The same for a peak panel (see `MAX_XI`: ρ ≈ 1.66): the 18-point estimate is
-/// ~ρ⁻³⁶ ≈ 1e-8 of the panel, the 24-point value ~ρ⁻⁴⁸ ≈ 3e-11.
+/// ~ρ⁻³⁶ ≈ 1e-8 of the panel, the 37-point value ~ρ⁻⁵⁶ ≈ 5e-13.
 ///
-/// The pairs were chosen on grids of 10⁴ points (μμ, √s 2–12 GeV, no and full VP,
-/// x_max 0.1, 0.5 and open): against [32, 24] everywhere they take 23–26% fewer evaluations
-/// of σ_d, agree with it to 1.2e-9 (the adaptive points' own 1e-8 included), and send 0.3–1.4%
-/// of the full-VP points to the adaptive path instead of 0.2–1.0%.
-const PEAK_ORDERS: [usize; 2] = [24, 18];
+/// The Gauss orders were chosen on grids of 10⁴ points (μμ, √s 2–12 GeV, no and full VP,
+/// x_max 0.1, 0.5 and open), then with separate Gauss rules of 24 (head 28) points for the
+/// value: against 24 everywhere they took 23–26% fewer evaluations of σ_d, agreed with it
+/// to 1.2e-9 (the adaptive points' own 1e-8 included), and sent 0.3–1.4% of the full-VP
+/// points to the adaptive path instead of 0.2–1.0%. The Kronrod pairs keep those
+/// estimates and take 11–15% fewer evaluations again.
+const PEAK_GAUSS: usize = 18;
 /// The same for a panel graded from the soft singularity at x = 0 (v = −v_a sinh ξ, see
 /// `graded_from_zero`): x^(β−1) branches at the panel's own scale, and with √s on a peak
-/// the peak's poles sit there too; [24, 18] missed 1e-8 with √s on a 93 keV peak.
-const SOFT_ORDERS: [usize; 2] = [32, 24];
+/// the peak's poles sit there too; an 18-point estimate missed 1e-8 with √s on a 93 keV
+/// peak.
+const SOFT_GAUSS: usize = 24;
 /// The same for a panel in v far from the soft singularity (its ρ at least [`PLAIN_RHO`],
 /// see `Panel::soft_rho`) whose interval's neighbouring breaks are at least its length away
 /// (`clear`: ρ ≥ 5.8 for them): the 8-point estimate is ~ρ⁻¹⁶ ≲ 7e-12. On the 10⁴-point
 /// full-VP grids: 9% fewer evaluations (open range), the same points adaptive, agreement
-/// with [`LOG_ORDERS`] everywhere to 7e-11. (Without `clear`, 22% fewer, but a panel next to
+/// with [`LOG_GAUSS`] everywhere to 7e-11. (Without `clear`, 22% fewer, but a panel next to
 /// a peak just beyond its root end missed its estimate and went adaptive.)
-const PLAIN_ORDERS: [usize; 2] = [12, 8];
-/// The soft-singularity ρ from which a panel in v takes [`PLAIN_ORDERS`] (at 4, 2.5 times as
+const PLAIN_GAUSS: usize = 8;
+/// The soft-singularity ρ from which a panel in v takes [`PLAIN_GAUSS`] (at 4, 2.5 times as
 /// many points went adaptive on the grids; 5–8 all gave the same).
 const PLAIN_RHO: f64 = 5.0;
 /// The most breaks (features inside the range) the fixed path of [`Isr::observe`] takes;
@@ -69,8 +78,8 @@ const MAX_BREAKS: usize = 40;
 /// point) have more and pay once per row.
 const MAX_VISIT_BREAKS: usize = 160;
 /// Longest peak panel in ξ (v = v_R ± γ sinh ξ). The Breit–Wigner's poles ±iπ/2 sit over
-/// the panel's end ξ = 0: on [0, 13] their Bernstein ellipse has ρ ≈ 1.66, so the 24-point
-/// rule's error is ~ρ⁻⁴⁸ ≈ 3e-11 of the peak's weight ([`PEAK_ORDERS`]). A
+/// the panel's end ξ = 0: on [0, 13] their Bernstein ellipse has ρ ≈ 1.66, so a 24-point
+/// Gauss rule's error is ~ρ⁻⁴⁸ ≈ 3e-11 of the peak's weight (see [`PEAK_GAUSS`]). A
 /// structure just beyond the far end (the next break at twice the distance: ln 2 in ξ)
 /// gives ρ ≈ 1.6. Measured (μμ, full VP, 2–12 GeV, with [32, 24] rules): the agreement with
 /// an independent evaluation is the same for 6 to 24; at 12 the panels' estimates are
@@ -102,29 +111,33 @@ const HEAD_PEAK_FRACTION: f64 = 0.25;
 /// Multiples of the width around a peak where the adaptive fallback starts subdividing.
 const PEAK_STEPS: [f64; 9] = [-64.0, -16.0, -4.0, -1.0, 0.0, 1.0, 4.0, 16.0, 64.0];
 
-/// A fixed rule on [0, 1]: nodes u, weights, and ln u (the head map needs ln t =
-/// ln t_max + ln u, so the logarithm is paid once per process, not per node).
+/// A Gauss–Kronrod pair on [0, 1]: nodes u, the Kronrod weights, ln u (the head map needs
+/// ln t = ln t_max + ln u, so the logarithm is paid once per process, not per node), and
+/// the Gauss weight over the Kronrod weight at each node (0 where Kronrod added the node):
+/// the node weights a panel fills carry the Kronrod weight, and this turns them into the
+/// Gauss rule's.
 struct Rule {
     nodes: Vec<f64>,
     weights: Vec<f64>,
     ln_nodes: Vec<f64>,
+    gauss_ratio: Vec<f64>,
 }
 
-/// The high and the low fixed rule of each panel kind.
+/// The fixed rule of each panel kind.
 struct Rules {
-    head: [Rule; 2],
-    log: [Rule; 2],
-    peak: [Rule; 2],
-    soft: [Rule; 2],
-    plain: [Rule; 2],
+    head: Rule,
+    log: Rule,
+    peak: Rule,
+    soft: Rule,
+    plain: Rule,
 }
 
 impl Rules {
-    /// The (high, low) pair for `panel`. A sinh-graded panel centred on v = 0 is graded from
+    /// The rule for `panel`. A sinh-graded panel centred on v = 0 is graded from
     /// the soft singularity ([`graded_from_zero`]), not from a peak; when it starts at least
     /// half its length (in ξ) from it, ρ ≳ 3.7 there and the plain pair does.
     #[inline]
-    fn pair(&self, panel: &Panel) -> &[Rule; 2] {
+    fn rule(&self, panel: &Panel) -> &Rule {
         match panel {
             Panel::Head { .. } => &self.head,
             Panel::Log { clear: true, .. } if panel.soft_rho() >= PLAIN_RHO => &self.plain,
@@ -145,23 +158,29 @@ fn rules() -> &'static Rules {
     static RULES: OnceLock<Rules> = OnceLock::new();
     RULES.get_or_init(|| {
         let unit = |n: usize| {
-            let g = GaussLegendre::new(n);
-            let nodes: Vec<f64> = g.nodes().iter().map(|x| 0.5 * (x + 1.0)).collect();
-            let weights = g.weights().iter().map(|w| 0.5 * w).collect();
+            let p = KronrodPair::new(n);
+            let nodes: Vec<f64> = p.nodes().iter().map(|x| 0.5 * (x + 1.0)).collect();
+            let weights = p.kronrod_weights().iter().map(|w| 0.5 * w).collect();
             let ln_nodes = nodes.iter().map(|u| u.ln()).collect();
+            let gauss_ratio = p
+                .gauss_weights()
+                .iter()
+                .zip(p.kronrod_weights())
+                .map(|(g, k)| g / k)
+                .collect();
             Rule {
                 nodes,
                 weights,
                 ln_nodes,
+                gauss_ratio,
             }
         };
-        let pair = |[hi, lo]: [usize; 2]| [unit(hi), unit(lo)];
         Rules {
-            head: pair(HEAD_ORDERS),
-            log: pair(LOG_ORDERS),
-            peak: pair(PEAK_ORDERS),
-            soft: pair(SOFT_ORDERS),
-            plain: pair(PLAIN_ORDERS),
+            head: unit(HEAD_GAUSS),
+            log: unit(LOG_GAUSS),
+            peak: unit(PEAK_GAUSS),
+            soft: unit(SOFT_GAUSS),
+            plain: unit(PLAIN_GAUSS),
         }
     })
 }
@@ -418,18 +437,12 @@ impl Kernel {
 }
 
 /// The most points of any fixed rule.
-const MAX_ORDER: usize = 32;
+const MAX_ORDER: usize = 49;
 const _: () = {
-    let all = [
-        HEAD_ORDERS,
-        LOG_ORDERS,
-        PEAK_ORDERS,
-        SOFT_ORDERS,
-        PLAIN_ORDERS,
-    ];
+    let all = [HEAD_GAUSS, LOG_GAUSS, PEAK_GAUSS, SOFT_GAUSS, PLAIN_GAUSS];
     let mut i = 0;
     while i < all.len() {
-        assert!(all[i][0] <= MAX_ORDER && all[i][1] <= MAX_ORDER);
+        assert!(2 * all[i] < MAX_ORDER);
         i += 1;
     }
 };
@@ -472,17 +485,20 @@ impl<C: CrossSection + ?Sized> Integrand<'_, C> {
         w * self.sigma.sigma_nb(s_prime)
     }
 
-    /// Σ w·f over one fixed rule on one panel.
+    /// Σ w·f on one panel by the Kronrod and by the Gauss rule of a pair.
     #[inline]
-    fn sum(&self, panel: &Panel, rule: &Rule, nodes: &mut Nodes) -> f64 {
+    fn sums(&self, panel: &Panel, rule: &Rule, nodes: &mut Nodes) -> (f64, f64) {
         let n = self.kernel.fill(panel, rule, nodes);
         self.sigma
             .sigma_nb_many(&nodes.s_prime[..n], &mut nodes.sigma_nb[..n]);
-        let mut acc = 0.0;
-        for (w, sigma) in nodes.weight[..n].iter().zip(&nodes.sigma_nb[..n]) {
-            acc += w * sigma;
+        let (mut kronrod, mut gauss) = (0.0, 0.0);
+        let terms = nodes.weight[..n].iter().zip(&nodes.sigma_nb[..n]);
+        for ((w, sigma), ratio) in terms.zip(&rule.gauss_ratio) {
+            let term = w * sigma;
+            kronrod += term;
+            gauss += ratio * term;
         }
-        acc
+        (kronrod, gauss)
     }
 }
 
@@ -741,13 +757,15 @@ impl Isr {
         };
         let mut nodes = Nodes::new();
         panels.for_each(&setup.kernel, |p| {
-            let rule = &rules().pair(&p)[match order {
-                Order::High => 0,
-                Order::Low => 1,
-            }];
+            let rule = rules().rule(&p);
             let n = setup.kernel.fill(&p, rule, &mut nodes);
-            for (&w, &s_prime) in nodes.weight[..n].iter().zip(&nodes.s_prime[..n]) {
-                visit(s_prime, w);
+            let filled = nodes.weight[..n].iter().zip(&nodes.s_prime[..n]);
+            for ((&w, &s_prime), &ratio) in filled.zip(&rule.gauss_ratio) {
+                match order {
+                    Order::High => visit(s_prime, w),
+                    Order::Low if ratio != 0.0 => visit(s_prime, ratio * w),
+                    Order::Low => {}
+                }
             }
         });
         Ok(true)
@@ -816,14 +834,11 @@ impl Isr {
         let (mut value, mut error, mut evaluations, mut n) = (0.0, 0.0, 0, 0);
         let mut nodes = Nodes::new();
         panels.for_each(&f.kernel, |p| {
-            let [hi_rule, lo_rule] = r.pair(&p);
-            let (hi, lo) = (
-                f.sum(&p, hi_rule, &mut nodes),
-                f.sum(&p, lo_rule, &mut nodes),
-            );
+            let rule = r.rule(&p);
+            let (hi, lo) = f.sums(&p, rule, &mut nodes);
             value += hi;
             error += (hi - lo).abs();
-            evaluations += hi_rule.nodes.len() + lo_rule.nodes.len();
+            evaluations += rule.nodes.len();
             n += 1;
         });
         (value.is_finite() && error <= self.rel_tol * value.abs()).then_some(Observed {
@@ -1336,7 +1351,7 @@ mod tests {
             let (mut a, mut b) = (Nodes::new(), Nodes::new());
             panels.for_each(&setup.kernel, |p| {
                 kinds.insert(std::mem::discriminant(&p));
-                for rule in rules().pair(&p) {
+                for rule in [rules().rule(&p)] {
                     let n = setup.kernel.fill_portable(&p, rule, &mut a);
                     // SAFETY: AVX2 and FMA were detected above.
                     assert_eq!(n, unsafe { setup.kernel.fill_avx2(&p, rule, &mut b) });

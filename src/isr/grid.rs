@@ -410,11 +410,14 @@ mod tests {
         }
         let q = 2.0 - 3f64.sqrt();
         let q2n = q.powi(2 * NODES as i32);
-        let aliased = |k: i32| {
-            2.0 / 3f64.sqrt() * (q.powi(k) - (q.powi(-k) + q.powi(k)) * q2n / (1.0 + q2n))
-        };
+        let aliased =
+            |k: i32| 2.0 / 3f64.sqrt() * (q.powi(k) - (q.powi(-k) + q.powi(k)) * q2n / (1.0 + q2n));
         let tail = aliased(top - 1).abs() + aliased(top).abs();
-        assert!((g.tail() / tail - 1.0).abs() < 1e-6, "tail {} ≠ {tail}", g.tail());
+        assert!(
+            (g.tail() / tail - 1.0).abs() < 1e-6,
+            "tail {} ≠ {tail}",
+            g.tail()
+        );
     }
 
     /// A whole run [a, b] ends where the nearest structure is half its length away.

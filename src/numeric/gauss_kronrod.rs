@@ -57,6 +57,13 @@ const WG: [f64; 5] = [
     0.295_524_224_714_752_870_173_892_994_651_338,
 ];
 
+/// The published 21-point pair (nodes, Kronrod weights, Gauss weights), for checking the
+/// pairs computed in `kronrod.rs`.
+#[cfg(test)]
+pub(super) fn published_qk21() -> (&'static [f64; 11], &'static [f64; 11], &'static [f64; 5]) {
+    (&XGK, &WGK, &WG)
+}
+
 /// Subdivisions allowed before giving up with [`Status::BudgetExhausted`].
 const MAX_INTERVALS: usize = 2000;
 

@@ -10,6 +10,7 @@ mod gauss_kronrod;
 mod gauss_legendre;
 mod grid;
 mod guarded;
+mod kronrod;
 mod lanes;
 mod li2;
 mod principal_value;
@@ -21,6 +22,7 @@ pub use gauss_kronrod::{integrate, integrate_to_infinity};
 pub use gauss_legendre::GaussLegendre;
 pub use grid::{Grid, GridError};
 pub use guarded::integrate_double_exponential;
+pub use kronrod::KronrodPair;
 pub use li2::{li2, li2_complex};
 pub mod fast {
     //! Branch-free elementary functions for vectorisable node loops.
