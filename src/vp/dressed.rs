@@ -41,9 +41,7 @@ impl<C: CrossSection, P: Polarisation> CrossSection for Dressed<C, P> {
     }
     fn sigma_nb_many(&self, s_gev2: &[f64], out: &mut [f64]) {
         self.born.sigma_nb_many(s_gev2, out);
-        for (o, &s) in out.iter_mut().zip(s_gev2) {
-            *o *= self.vp_factor(s);
-        }
+        self.vp.times_s_channel_norm_sqr(s_gev2, out);
     }
     fn threshold_s_gev2(&self) -> f64 {
         self.born.threshold_s_gev2()

@@ -64,6 +64,14 @@ pub trait Polarisation: Sync + Send {
     fn t_channel_factor(&self, t_gev2: f64) -> f64 {
         1.0 / (1.0 - self.pi(t_gev2).re)
     }
+
+    /// Multiply each `out[i]` by |1/(1 − Π(sᵢ))|² (dressing a batch of bare cross-sections;
+    /// a model may look its tables up once per batch instead of once per point).
+    fn times_s_channel_norm_sqr(&self, s_gev2: &[f64], out: &mut [f64]) {
+        for (o, &s) in out.iter_mut().zip(s_gev2) {
+            *o *= self.s_channel_factor(s).norm_sqr();
+        }
+    }
 }
 
 /// A borrowed or shared model is the model itself (chain links hold `&Vp` or an
@@ -86,6 +94,9 @@ macro_rules! forward_polarisation {
             }
             fn t_channel_factor(&self, t_gev2: f64) -> f64 {
                 (**self).t_channel_factor(t_gev2)
+            }
+            fn times_s_channel_norm_sqr(&self, s_gev2: &[f64], out: &mut [f64]) {
+                (**self).times_s_channel_norm_sqr(s_gev2, out)
             }
         }
     )*};

@@ -345,6 +345,17 @@ impl Polarisation for Vp {
             .get(s_gev2)
             .unwrap_or_else(|| 1.0 / (1.0 - self.pi(s_gev2)))
     }
+    /// One look at the choice and the table's cell for the whole batch.
+    fn times_s_channel_norm_sqr(&self, s_gev2: &[f64], out: &mut [f64]) {
+        if self.choice == VpChoice::None {
+            return;
+        }
+        let table = self.factor_table();
+        for (o, &s) in out.iter_mut().zip(s_gev2) {
+            let factor = table.get(s).unwrap_or_else(|| 1.0 / (1.0 - self.pi(s)));
+            *o *= factor.norm_sqr();
+        }
+    }
     fn features(&self) -> &[Feature] {
         &self.features
     }
