@@ -26,7 +26,9 @@ pub use kronrod::KronrodPair;
 pub use li2::{li2, li2_complex};
 pub mod fast {
     //! Branch-free elementary functions for vectorisable node loops.
-    pub use super::lanes::{estrin, exp, exp_and_exp_m1, ln, ln_one_minus};
+    pub use super::lanes::{
+        Coefficient, Fused, Rounding, Separate, estrin, exp, exp_and_exp_m1, ln, ln_one_minus,
+    };
 }
 pub use principal_value::principal_value;
 pub use singular::integrate_power_endpoint;
