@@ -5,7 +5,7 @@ use anyhow::{Result, anyhow, bail};
 use clap::{Args, ValueEnum};
 use rayon::prelude::*;
 
-use super::output::{OutputArgs, Report, Row, emit, rows_in_order};
+use super::output::{OutputArgs, Report, Row, emit_rows};
 use super::{flag_error, parse_energy_grid};
 use radnorm::isr::{
     Cuts, Isr, IsrError, Observed, RUN_NODES, Radiated, Scheme, Smeared, schwinger_factor,
@@ -201,6 +201,17 @@ pub fn run(args: IsrArgs) -> Result<()> {
     } else {
         Vec::new()
     };
+    // With a spread, σ_obs at each energy is a convolution in √s: done across threads
+    // before the rows (which are then a few table lookups each).
+    let smeared: Vec<f64> = if spread_mev > 0.0 {
+        let smeared = Smeared::new(Radiated::new(&dressed, isr), spread_mev).map_err(flag_error)?;
+        grid.points()
+            .par_iter()
+            .map(|&sqrt_s| smeared.smeared(sqrt_s).value)
+            .collect()
+    } else {
+        Vec::new()
+    };
     let point = |i: usize, row: Row| -> Result<Row> {
         let (sqrt_s, s, observed) = (grid.points()[i], s_values[i], &observed[i]);
         // σ_dressed = σ_born·|1/(1 − Π)|², as `Dressed::sigma_nb` forms it (same bits).
@@ -213,13 +224,7 @@ pub fn run(args: IsrArgs) -> Result<()> {
                 0.0
             }
         };
-        let sigma_obs = if spread_mev > 0.0 {
-            let smeared =
-                Smeared::new(Radiated::new(&dressed, isr), spread_mev).map_err(flag_error)?;
-            smeared.smeared(sqrt_s).value
-        } else {
-            observed.sigma_nb
-        };
+        let sigma_obs = smeared.get(i).copied().unwrap_or(observed.sigma_nb);
         let mut row = row
             .text("process", args.process.key())
             .num("sqrt_s_gev", sqrt_s)
@@ -252,16 +257,6 @@ pub fn run(args: IsrArgs) -> Result<()> {
         }
         Ok(row)
     };
-    // A row is a few table lookups unless a spread is folded in: then it is a convolution
-    // worth spreading over threads (rows built across threads also cost the allocator more).
-    let rows = if spread_mev > 0.0 {
-        (0..s_values.len())
-            .into_par_iter()
-            .map(|i| Ok(point(i, Row::new())?.shrunk()))
-            .collect::<Result<Vec<Row>>>()?
-    } else {
-        rows_in_order(s_values.len(), point)?
-    };
     let interpolated = observed.iter().filter(|o| o.interpolated).count();
     if interpolated > 0 {
         // Beside the accuracy note, before the constants' editions.
@@ -270,11 +265,12 @@ pub fn run(args: IsrArgs) -> Result<()> {
             observed.len()
         ));
     }
-    let mut report = Report::new(rows);
+    let mut report = Report::new(Vec::new());
     for n in notes {
         report = report.note(n);
     }
-    emit(report, &args.output, &[], grid.is_single())
+    let n = s_values.len();
+    emit_rows(report, n, point, &args.output, &[], grid.is_single())
 }
 
 /// An ISR error in the words of the command line.
