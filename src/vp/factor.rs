@@ -14,7 +14,7 @@
 //! summed in the power basis by Estrin's scheme (log₂ K steps of latency instead of
 //! Clenshaw's K) with the real and imaginary part side by side.
 
-use super::hadronic::chebyshev::{Chebyshev, PieceStats};
+use super::hadronic::chebyshev::{Chebyshev, PieceStats, graded_towards};
 use crate::numeric::fast::{Rounding, estrin};
 use num_complex::Complex64;
 use rayon::prelude::*;
@@ -30,8 +30,15 @@ pub(super) const S_HI: f64 = 1e6;
 /// magnitude on converged pieces; `tests/vp_factor_table.rs` checks the table against the
 /// direct 1/(1 − Π) at 10⁻⁹ relative, also next to the narrow resonances' minima of |·|.
 const REL_TOL: f64 = 1e-11;
+/// The tolerance of a piece that starts at a √ edge, in units of [`REL_TOL`] (see the
+/// build: a logarithm there has the same tail at every scale).
+const EDGE_LOG_ALLOWANCE: f64 = 2.0;
 /// Multiple of ε·s·|df/ds| allowed for the samples' rounded arguments.
 const ROUNDING: f64 = 2.0 * f64::EPSILON;
+/// Beyond a peak's own breaks the pieces grow by this ratio a step: a piece of width w at
+/// distance D from a pole pair just off the axis converges at w ≈ D/2 (seen in the
+/// bisection's choices next to the Υ(1S), which took a rejected fit per halving).
+const POLE_GRADING: f64 = 1.4;
 /// Lookup cells per binade of s: 2^(52 − SHIFT) = 512 (24k cells, 95 KB). Near a narrow
 /// resonance the pieces shrink to its width and a cell still holds several; 32 a binade
 /// left ~60 to search near the Υ(1S) (an ISR point there: 12% more instructions).
@@ -90,13 +97,15 @@ impl std::fmt::Debug for FactorTable {
 
 impl FactorTable {
     /// Tabulate `factor` (the direct 1/(1 − Π)) with breaks at `breaks` and √ edges at
-    /// `roots` (each also a break); the segments between breaks on rayon's pool when
+    /// `roots` (each also a break), more breaks graded away from each peak (s, start) of
+    /// `poles` from s ± start on; the segments between breaks on rayon's pool when
     /// `parallel` (never from inside a lock a pool worker may wait on), else on the calling
     /// thread.
     pub(super) fn build(
         factor: &(dyn Fn(f64) -> Complex64 + Sync),
         breaks: &[f64],
         roots: &[f64],
+        poles: &[(f64, f64)],
         parallel: bool,
     ) -> Self {
         let mut b: Vec<f64> = breaks.iter().chain(roots).copied().collect();
@@ -119,6 +128,15 @@ impl FactorTable {
             }
             same
         });
+        // Graded up to half-way to the next pole or √ edge (not to the next break: the
+        // bare M² of a moved pole and the hadronic table's joins sit close to it).
+        let mut limits: Vec<f64> = poles
+            .iter()
+            .map(|p| p.0)
+            .chain(roots.iter().copied())
+            .collect();
+        limits.sort_by(f64::total_cmp);
+        let b = graded_towards(&b, poles, &limits, POLE_GRADING);
         let segment = |&(lo, hi, map): &(f64, f64, Map)| -> Vec<(f64, Piece)> {
             // The variable runs from the edge outward. The samples stay a rounding error
             // inside [lo, hi]: on a side of a jump (a model's edge may be one) they take
@@ -135,10 +153,20 @@ impl FactorTable {
             // Plus the floor of sampling at rounded s: near a narrow peak |df/ds|·ε·s
             // reaches ~10⁻¹⁰ of |f|, the direct evaluation's own sensitivity to its
             // argument (the Markov slope in t over the piece's extent in s, a bound).
+            //
+            // At a lepton threshold the two-loop Π has a ln β term (the Coulomb
+            // singularity), ln w in the root variable: its Chebyshev tail is the same on
+            // every piece [0, h], ~1.3 times the tolerance, and bisection halved the piece
+            // at the edge ~17 times before the rounding floor stopped it. That piece is
+            // allowed [`EDGE_LOG_ALLOWANCE`] times the tolerance.
             let tol = |p: &PieceStats| {
                 let (s_a, s_b) = (map.s(p.a), map.s(p.b));
                 let extent = (s_b - s_a).abs();
-                REL_TOL * p.largest + ROUNDING * s_a.max(s_b) * p.slope * 2.0 / extent
+                let rel = match map {
+                    Map::Root { .. } if p.a == 0.0 => EDGE_LOG_ALLOWANCE * REL_TOL,
+                    _ => REL_TOL,
+                };
+                rel * p.largest + ROUNDING * s_a.max(s_b) * p.slope * 2.0 / extent
             };
             let table = Chebyshev::<K, 2>::build_serial(&f, &[w_lo, w_hi], &tol);
             let (e, n) = (table.edges(), table.pieces());
@@ -295,7 +323,7 @@ mod tests {
             .iter()
             .map(|k| 5.0 + k * 0.001)
             .collect();
-        let t = FactorTable::build(&f, &breaks, &[1.0], false);
+        let t = FactorTable::build(&f, &breaks, &[1.0], &[(5.0, 0.008)], false);
         // Both roundings of the series' steps (the fused one through the library's fma).
         let mut worst = 0.0f64;
         for k in 0..20000 {

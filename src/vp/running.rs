@@ -274,7 +274,25 @@ impl Vp {
             }
             breaks.extend(h.timelike_breaks());
         }
-        FactorTable::build(&|s| 1.0 / (1.0 - self.pi(s)), &breaks, &roots, parallel)
+        let last_step = PEAK_BREAKS[PEAK_BREAKS.len() - 1];
+        let poles: Vec<(f64, f64)> = self
+            .features
+            .iter()
+            .filter_map(|f| match *f {
+                Feature::Peak {
+                    s_gev2,
+                    m_gamma_gev2,
+                } => Some((s_gev2, last_step * m_gamma_gev2)),
+                Feature::Edge { .. } => None,
+            })
+            .collect();
+        FactorTable::build(
+            &|s| 1.0 / (1.0 - self.pi(s)),
+            &breaks,
+            &roots,
+            &poles,
+            parallel,
+        )
     }
 
     /// [`Vp::times_norm_sqr`] compiled for AVX2 + FMA, fused.

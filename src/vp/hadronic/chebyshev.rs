@@ -225,28 +225,41 @@ fn refine<F, T, const K: usize, const M: usize>(
     }
 }
 
-/// `breaks` (sorted) with more breaks graded geometrically towards each of `edges` (among
-/// the breaks): at `first`, `first`·`ratio`, `first`·`ratio`², … from the edge on both sides,
-/// up to half-way to the next break. A function with a kink or branch point at an edge
-/// needs pieces that shrink towards it; bisection finds them too, but pays a rejected fit at
-/// every level (about half of all fits for Π_had), and graded breaks start it at the end.
-pub fn graded_towards(breaks: &[f64], edges: &[f64], first: f64, ratio: f64) -> Vec<f64> {
+/// `breaks` (sorted) with more breaks graded geometrically towards singular points: for
+/// each (centre, start) of `towards` inside the breaks' range, at centre ± start·ratioᵏ
+/// (k ≥ 1) on both sides, up to half-way from the centre to the first of `limits` (sorted)
+/// beyond centre ± start. A function with a kink or branch point at an edge (start: the
+/// first piece's width over the ratio), or a pole pair just off the axis (start: where the
+/// breaks around it end), needs pieces that grow with the distance from it; bisection
+/// finds them too, but pays a rejected fit at every level (about half of all fits for
+/// Π_had and for 1/(1 − Π)), and graded breaks start it at the end.
+pub fn graded_towards(
+    breaks: &[f64],
+    towards: &[(f64, f64)],
+    limits: &[f64],
+    ratio: f64,
+) -> Vec<f64> {
     let mut out = breaks.to_vec();
-    for &e in edges {
-        let i = breaks.partition_point(|&b| b < e);
-        if breaks.get(i) != Some(&e) {
-            continue;
-        }
-        let below = i.checked_sub(1).map_or(0.0, |j| 0.5 * (e - breaks[j]));
-        let above = breaks.get(i + 1).map_or(0.0, |&b| 0.5 * (b - e));
-        for (room, dir) in [(below, -1.0), (above, 1.0)] {
-            let mut h = first;
+    let (Some(&first), Some(&last)) = (breaks.first(), breaks.last()) else {
+        return out;
+    };
+    for &(centre, start) in towards.iter().filter(|t| (first..=last).contains(&t.0)) {
+        for dir in [-1.0, 1.0] {
+            let from = centre + dir * start;
+            let next = if dir > 0.0 {
+                limits.iter().find(|&&b| b > from).unwrap_or(&last)
+            } else {
+                limits.iter().rev().find(|&&b| b < from).unwrap_or(&first)
+            };
+            let room = 0.5 * (next - centre).abs();
+            let mut h = start * ratio;
             while h < room {
-                out.push(e + dir * h);
+                out.push(centre + dir * h);
                 h *= ratio;
             }
         }
     }
+    out.retain(|x| (first..=last).contains(x));
     out.sort_by(f64::total_cmp);
     out.dedup();
     out
@@ -292,7 +305,9 @@ mod tests {
     #[test]
     fn graded_breaks_grow_geometrically_from_an_edge_up_to_half_way() {
         // Edge 1 between breaks 0 and 4: room 0.5 below, 1.5 above; steps 0.1, 0.3, 0.9.
-        let b = graded_towards(&[0.0, 1.0, 4.0], &[1.0, 2.5], 0.1, 3.0);
+        // (A centre beyond the breaks, 5, adds nothing.)
+        let breaks = [0.0, 1.0, 4.0];
+        let b = graded_towards(&breaks, &[(1.0, 0.1 / 3.0), (5.0, 0.1)], &breaks, 3.0);
         let want = [0.0, 0.7, 0.9, 1.0, 1.1, 1.3, 1.9, 4.0];
         assert_eq!(b.len(), want.len(), "{b:?}");
         for (x, w) in b.iter().zip(want) {
@@ -300,7 +315,8 @@ mod tests {
         }
         // √x near its branch point at 0, from graded breaks: as accurate as asked.
         let f = |x: f64| [x.abs().sqrt()];
-        let breaks = graded_towards(&[-1.0, 0.0, 1.0], &[0.0], 1e-6, 3.0);
+        let breaks = [-1.0, 0.0, 1.0];
+        let breaks = graded_towards(&breaks, &[(0.0, 1e-6 / 3.0)], &breaks, 3.0);
         let t: Chebyshev = Chebyshev::build(&f, &breaks, &|_: &PieceStats| 1e-12);
         for k in 0..=2000 {
             let x = -1.0 + 2.0 * (k as f64 / 2000.0);

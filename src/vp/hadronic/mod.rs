@@ -229,9 +229,12 @@ impl HadronicVp {
         time_breaks.retain(|&x| x >= lo && x <= hi);
         time_breaks.sort_by(f64::total_cmp);
         time_breaks.dedup();
-        let edge_lns: Vec<f64> = edges.iter().map(|e| e.ln()).collect();
+        let towards: Vec<(f64, f64)> = edges
+            .iter()
+            .map(|e| (e.ln(), GRADED_FIRST / GRADED_RATIO))
+            .collect();
         let time_breaks =
-            chebyshev::graded_towards(&time_breaks, &edge_lns, GRADED_FIRST, GRADED_RATIO);
+            chebyshev::graded_towards(&time_breaks, &towards, &time_breaks, GRADED_RATIO);
         let timelike = Chebyshev::build(&|x: f64| [re_rule(x.exp())], &time_breaks, &tol);
         let bw = model.resonances().iter().map(BreitWigner::new).collect();
         let features = model.features().to_vec();
