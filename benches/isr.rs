@@ -28,19 +28,24 @@ fn isr_vp(c: &mut Criterion) {
     for (name, vp) in [("leptonic", Vp::leptonic()), ("full", Vp::full())] {
         let dressed = Dressed::new(FermionPair::muon(), vp);
         c.bench_function(
-            &format!("isr mumu kf2 x_max=0.5 sqrt_s=10, {name} VP (target <= 3 us)"),
+            &format!(
+                "isr mumu kf2 x_max=0.5 sqrt_s=10, {name} VP (target <= 3 us; full: the Upsilon(1S) in range)"
+            ),
             |b| b.iter(|| half.observe(&dressed, black_box(100.0)).unwrap().sigma_nb),
         );
     }
     // Narrow resonances of the hadronic VP inside s′ ∈ [s/2, s]: the dressed line shape
     // peaks at the pole of 1/(1 − Π) (J/ψ: 24 widths above the bare M²), which the fixed path must
-    // split at and map (11 and 3 panels here).
+    // split at and map (3 panels with one such peak, 10 with the three Υ and the open-bottom
+    // edge). The target is for a point with one narrow resonance in range; each further one
+    // adds its two graded panels (the three Υ: ~3.5 times a one-peak point).
     let dressed = Dressed::new(FermionPair::muon(), Vp::full());
-    for (sqrt_s, inside) in [(10.58, "Upsilon(1S-3S)"), (3.2, "J/psi")] {
+    for (sqrt_s, inside) in [
+        (10.58, "Upsilon(1S-3S), three narrow peaks: no target"),
+        (3.2, "J/psi (target <= 3 us)"),
+    ] {
         c.bench_function(
-            &format!(
-                "isr mumu kf2 x_max=0.5 sqrt_s={sqrt_s}, full VP, {inside} in range (target <= 3 us)"
-            ),
+            &format!("isr mumu kf2 x_max=0.5 sqrt_s={sqrt_s}, full VP, {inside} in range"),
             |b| {
                 b.iter(|| {
                     half.observe(&dressed, black_box(sqrt_s * sqrt_s))
@@ -57,7 +62,7 @@ fn isr_vp(c: &mut Criterion) {
         |b| b.iter(|| half.observe(&dressed, black_box(49.0)).unwrap().sigma_nb),
     );
     // The floor under every VP point: one evaluation of the dressed σ_d (a fixed panel
-    // takes 24 + 16 to 28 + 20 of them).
+    // takes 17 to 49 of them, a Gauss–Kronrod pair's nodes).
     c.bench_function("dressed mumu sigma_d, full VP, one evaluation", |b| {
         b.iter(|| dressed.sigma_nb(black_box(100.0)))
     });
