@@ -514,19 +514,20 @@ impl<C: CrossSection + ?Sized> Integrand<'_, C> {
 }
 
 /// What [`Isr::setup`] finds at one s (no event passes where x_max ≤ 0).
-struct Setup<const N: usize> {
+struct Setup<'a> {
     kernel: Kernel,
     /// The cut's x_max, and the upper end actually integrated.
     x_max: f64,
     x_int: f64,
     /// The fixed path's breaks; None when it does not apply.
-    panels: Option<Panels<N>>,
+    panels: Option<Panels<'a>>,
 }
 
-/// The sorted breaks strictly inside (0, x_max) and the `last` one at x_max.
-struct Panels<const N: usize> {
-    breaks: [Break; N],
-    n: usize,
+/// The sorted breaks strictly inside (0, x_max) and the `last` one at x_max. The breaks
+/// live in the caller's array on the stack (borrowed, not moved: an array of them moved
+/// through `Setup` and its `Result` was five copies of a kilobyte a point).
+struct Panels<'a> {
+    breaks: &'a [Break],
     /// The head's limit in x set by peaks at or above √s ([`NEAR_ZERO_WIDTHS`]), and
     /// whether it must apply (a peak within the head's reach that is not a break).
     at_sqrt_s: Option<(f64, bool)>,
@@ -537,10 +538,10 @@ struct Panels<const N: usize> {
     last: Break,
 }
 
-impl<const N: usize> Panels<N> {
+impl Panels<'_> {
     /// The panels in order (the head in t = x^β first), handed to `emit`.
     fn for_each(&self, kernel: &Kernel, mut emit: impl FnMut(Panel)) {
-        let breaks = &self.breaks[..self.n];
+        let breaks = self.breaks;
         let mut a = match self.start {
             Some(start) => start,
             None => {
@@ -626,6 +627,13 @@ struct Break {
 }
 
 impl Break {
+    /// A placeholder for the arrays breaks are collected into (never read).
+    const UNSET: Break = Break {
+        x: 0.0,
+        v: 0.0,
+        end: End::Plain,
+    };
+
     fn new(x: f64, end: End) -> Self {
         Break {
             x,
@@ -711,12 +719,14 @@ impl Isr {
             interpolated: false,
             status: Status::Converged,
         };
-        let setup: Setup<MAX_BREAKS> = self.setup(
+        let mut breaks = [Break::UNSET; MAX_BREAKS];
+        let setup = self.setup(
             sigma.features(),
             sigma.threshold_s_gev2(),
             s_gev2,
             x_lo,
             x_hi,
+            &mut breaks,
         )?;
         if setup.x_int <= x_lo {
             return Ok(zero(setup.x_max));
@@ -758,8 +768,8 @@ impl Isr {
         order: Order,
         mut visit: impl FnMut(f64, f64),
     ) -> Result<bool, IsrError> {
-        let setup: Setup<MAX_VISIT_BREAKS> =
-            self.setup(features, threshold_s_gev2, s_gev2, 0.0, 1.0)?;
+        let mut breaks = [Break::UNSET; MAX_VISIT_BREAKS];
+        let setup = self.setup(features, threshold_s_gev2, s_gev2, 0.0, 1.0, &mut breaks)?;
         if setup.x_max <= 0.0 {
             return Ok(true);
         }
@@ -783,15 +793,17 @@ impl Isr {
     }
 
     /// The range, kernel and (when the fixed path applies) breaks at s, for x from `x_lo`
-    /// to the cuts' limit or `x_hi`, whichever is lower.
-    fn setup<const N: usize>(
+    /// to the cuts' limit or `x_hi`, whichever is lower; the breaks go into `breaks` (at
+    /// most N: more send the point to the adaptive path).
+    fn setup<'a, const N: usize>(
         &self,
         features: &[Feature],
         s_th: f64,
         s_gev2: f64,
         x_lo: f64,
         x_hi: f64,
-    ) -> Result<Setup<N>, IsrError> {
+        breaks: &'a mut [Break; N],
+    ) -> Result<Setup<'a>, IsrError> {
         if !(s_gev2 > 0.0 && s_gev2.is_finite()) {
             return Err(IsrError::BadEnergy { s_gev2 });
         }
@@ -811,11 +823,10 @@ impl Isr {
         let x_int = x_max.min(x_hi).min(1.0 - 1e-15);
         // The upper end behaves like a threshold only when the threshold set it.
         let threshold_end = x_int >= 1.0 - s_th / s_gev2 - 1e-12;
-        let mut breaks = [Break::new(0.0, End::Plain); N];
-        let found = collect_breaks(features, s_gev2, x_lo, x_int, &mut breaks);
+        let found = collect_breaks(features, s_gev2, x_lo, x_int, breaks);
+        let breaks: &'a [Break; N] = breaks;
         let panels = found.map(|found| Panels {
-            breaks,
-            n: found.n,
+            breaks: &breaks[..found.n],
             at_sqrt_s: found.at_sqrt_s,
             start: (x_lo > 0.0).then(|| Break::new(x_lo, found.before.unwrap_or(End::Plain))),
             last: Break::new(
@@ -839,7 +850,7 @@ impl Isr {
     fn fixed<C: CrossSection + ?Sized>(
         &self,
         f: &Integrand<C>,
-        panels: &Panels<MAX_BREAKS>,
+        panels: &Panels,
     ) -> Option<Observed> {
         let r = rules();
         let (mut value, mut error, mut evaluations, mut n) = (0.0, 0.0, 0, 0);
@@ -1357,8 +1368,16 @@ mod tests {
         let (mut kinds, mut nodes) = (std::collections::HashSet::new(), 0);
         for sqrt_s in [2.0, 3.0969, 3.2, 4.0, 7.0, 10.0, 10.58] {
             let s: f64 = sqrt_s * sqrt_s;
-            let setup: Setup<MAX_BREAKS> = isr
-                .setup(dressed.features(), dressed.threshold_s_gev2(), s, 0.0, 1.0)
+            let mut breaks = [Break::UNSET; MAX_BREAKS];
+            let setup = isr
+                .setup(
+                    dressed.features(),
+                    dressed.threshold_s_gev2(),
+                    s,
+                    0.0,
+                    1.0,
+                    &mut breaks,
+                )
                 .unwrap();
             let panels = setup.panels.as_ref().unwrap();
             let (mut a, mut b, mut c) = (Nodes::new(), Nodes::new(), Nodes::new());
@@ -1397,8 +1416,16 @@ mod tests {
                 let sqrt_s: f64 = m + k * g;
                 let s = sqrt_s * sqrt_s;
                 let fixed = isr.observe(&sigma, s).unwrap();
+                let mut breaks = [Break::UNSET; MAX_BREAKS];
                 let setup = isr
-                    .setup(sigma.features(), sigma.threshold_s_gev2(), s, 0.0, 1.0)
+                    .setup(
+                        sigma.features(),
+                        sigma.threshold_s_gev2(),
+                        s,
+                        0.0,
+                        1.0,
+                        &mut breaks,
+                    )
                     .unwrap();
                 let reference = Isr {
                     rel_tol: 1e-11,
