@@ -364,6 +364,14 @@ impl RModel {
     pub fn varied(&self, region: Region, n_sigma: f64) -> Self {
         let mut m = self.clone();
         m.variation = Some(Variation { region, n_sigma });
+        // The inclusive region's uncertainty ends at the pQCD onset and pQCD's begins there:
+        // a varied R jumps at PQCD_FROM_GEV, an edge every integral over it must split at
+        // (unmarked, an ISR point across it missed its estimate by 600×). The nominal R is
+        // continuous there and has no edge.
+        if matches!(region, Region::Inclusive | Region::Pqcd) && n_sigma != 0.0 {
+            let edges = self.part_switches().into_iter();
+            m.features.extend(edges.map(|s_gev2| Feature::Edge { s_gev2 }));
+        }
         for r in m.resonances.iter_mut().filter(|r| r.region == region) {
             r.gamma_ee_bare_gev *= (1.0 + n_sigma * r.gamma_ee_rel_unc).max(0.0);
         }
@@ -399,6 +407,19 @@ impl RModel {
     pub fn smooth_peaks(&self) -> [(f64, f64); 2] {
         let (mr, gr, mw, gw) = self.pion.masses_and_widths();
         [(mr * mr, mr * gr), (mw * mw, mw * gw)]
+    }
+
+    /// Where the split of R into regions changes abruptly (GeV²): the pQCD onset, unless a
+    /// user table covers it. R is continuous there, but each region's share and its
+    /// uncertainty jump, and so does a varied R ([`RModel::varied`] marks it an edge).
+    /// Dispersion rules for the parts put a panel boundary there.
+    pub fn part_switches(&self) -> Vec<f64> {
+        let covered = self.table.as_ref().is_some_and(|t| t.covers(PQCD_FROM_GEV));
+        if covered {
+            Vec::new()
+        } else {
+            vec![PQCD_FROM_GEV * PQCD_FROM_GEV]
+        }
     }
 
     /// Where the smooth R starts like a power of (s − s₀): the ππ threshold 4m_π² (GeV²).

@@ -467,7 +467,8 @@ impl SmoothRule {
 }
 
 /// Where a model's smooth R changes character: its edges (thresholds, switches), a user
-/// table's rows (kinks) and the smooth peaks (ρ, ω in F_π), as (M², MΓ).
+/// table's rows (kinks) and where its parts jump (plain bounds), and the smooth peaks (ρ, ω
+/// in F_π), as (M², MΓ).
 fn smooth_breaks(model: &RModel) -> (Vec<f64>, Vec<f64>, [(f64, f64); 2]) {
     let edges = model
         .features()
@@ -477,9 +478,11 @@ fn smooth_breaks(model: &RModel) -> (Vec<f64>, Vec<f64>, [(f64, f64); 2]) {
             Feature::Peak { .. } => None,
         })
         .collect();
-    let knots = model.table().map_or(Vec::new(), |t| {
+    let mut knots: Vec<f64> = model.table().map_or(Vec::new(), |t| {
         t.sqrt_s_gev().iter().map(|e| e * e).collect()
     });
+    // Where the parts of R jump (their shares enter the breakdown and the budget).
+    knots.extend(model.part_switches());
     (edges, knots, model.smooth_peaks())
 }
 
