@@ -370,7 +370,8 @@ impl RModel {
         // continuous there and has no edge.
         if matches!(region, Region::Inclusive | Region::Pqcd) && n_sigma != 0.0 {
             let edges = self.part_switches().into_iter();
-            m.features.extend(edges.map(|s_gev2| Feature::Edge { s_gev2 }));
+            m.features
+                .extend(edges.map(|s_gev2| Feature::Edge { s_gev2 }));
         }
         for r in m.resonances.iter_mut().filter(|r| r.region == region) {
             r.gamma_ee_bare_gev *= (1.0 + n_sigma * r.gamma_ee_rel_unc).max(0.0);
