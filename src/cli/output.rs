@@ -486,20 +486,23 @@ fn csv_provenance(report: &Report, s: &mut String) {
 
 /// The header line: the flattened keys of `row`.
 fn csv_header(row: &Row, s: &mut String, prefix: &mut String) {
-    let mut sep = "";
-    for_each_leaf(row, prefix, &mut |k, _| {
-        s.push_str(sep);
-        s.push_str(k);
-        sep = ",";
-    });
-    s.push('\n');
+    csv_record(row, s, prefix, true);
 }
 
 fn csv_line(row: &Row, s: &mut String, prefix: &mut String) {
+    csv_record(row, s, prefix, false);
+}
+
+/// One CSV line of `row`: its flattened keys, or its values.
+fn csv_record(row: &Row, s: &mut String, prefix: &mut String, keys: bool) {
     let mut sep = "";
-    for_each_leaf(row, prefix, &mut |_, v| {
+    for_each_leaf(row, prefix, &mut |k, v| {
         s.push_str(sep);
-        v.write_csv(s);
+        if keys {
+            s.push_str(k);
+        } else {
+            v.write_csv(s);
+        }
         sep = ",";
     });
     s.push('\n');
