@@ -241,10 +241,10 @@ fn the_vp_marks_each_narrow_resonance_at_the_pole_of_the_dressed_factor() {
 
 #[test]
 fn a_dense_grid_shares_the_far_part_and_agrees_point_by_point() {
-    // `Isr::observe_many` interpolates, on runs of ≥ 40 energies, either σ_obs itself (a
+    // `Isr::observe_many` interpolates, on runs of ≥ 32 energies, either σ_obs itself (a
     // run clear of σ_d's structures by half its length: the first grid) or the part from
     // s′ below the run (near structures: the Υ(3S) and the open-bottom edge at 10.56 GeV,
-    // the open-charm edge at 4.19 GeV), from 20 Chebyshev nodes. Checked here against the
+    // the open-charm edge at 4.19 GeV), from 16 Chebyshev nodes. Checked here against the
     // tanh–sinh reference of sampled points over the whole range (the open range down to
     // the μμ threshold, and a minimum-mass cut), and against the point-by-point path.
     let dressed = Dressed::new(FermionPair::muon(), Vp::full());

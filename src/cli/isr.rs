@@ -196,7 +196,15 @@ pub fn run(args: IsrArgs) -> Result<()> {
     let compared: Vec<(Scheme, Vec<Observed>)> = if args.compare_radiators {
         Scheme::ALL
             .iter()
-            .map(|&other| Ok((other, observe_all(isr.with_scheme(other))?)))
+            .map(|&other| {
+                // The chosen scheme's values are already there.
+                let obs = if other == scheme {
+                    observed.clone()
+                } else {
+                    observe_all(isr.with_scheme(other))?
+                };
+                Ok((other, obs))
+            })
             .collect::<Result<_>>()?
     } else {
         Vec::new()

@@ -212,28 +212,19 @@ pub fn emit_rows(
         report.rows = rows_in_order(n, row)?;
         return emit(report, args, inputs, single);
     }
-    let mut text = String::new();
-    csv_provenance(&report, &mut text);
+    let mut csv = Csv::new(&report, n);
     let (mut scratch, mut prefix) = (Row::new(), String::new());
     for i in 0..n {
         scratch.0.clear();
         let mut made = row(i, scratch)?;
         prepare(&mut made, args.units, &mut prefix)?;
-        if i == 0 {
-            let head = text.len();
-            csv_header(&made, &mut text, &mut prefix);
-            csv_line(&made, &mut text, &mut prefix);
-            // Every line about as long as the first: one allocation for them all.
-            text.reserve((text.len() - head) * n);
-        } else {
-            csv_line(&made, &mut text, &mut prefix);
-        }
+        csv.row(&made);
         scratch = made;
     }
     if let Some(summary) = &mut report.summary {
         prepare(summary, args.units, &mut prefix)?;
     }
-    csv_summary(&report, &mut text);
+    let text = csv.finish(&report);
     write_out(&text, args, inputs)
 }
 
@@ -465,55 +456,74 @@ fn prepare(row: &mut Row, units: Units, prefix: &mut String) -> Result<()> {
 }
 
 fn render_csv(report: &Report) -> String {
-    let mut s = String::new();
-    csv_provenance(report, &mut s);
-    let mut prefix = String::new();
-    if let Some(first) = report.rows.first() {
-        csv_header(first, &mut s, &mut prefix);
-    }
+    let mut csv = Csv::new(report, report.rows.len());
     for row in &report.rows {
-        csv_line(row, &mut s, &mut prefix);
+        csv.row(row);
     }
-    csv_summary(report, &mut s);
-    s
+    csv.finish(report)
 }
 
-fn csv_provenance(report: &Report, s: &mut String) {
-    for line in &report.provenance {
-        let _ = writeln!(s, "# {line}");
+/// CSV text being written: the provenance, then the header from the first row and one line
+/// a row, then the summary (shared by [`render`] and the rows written as made).
+struct Csv {
+    text: String,
+    /// The flattened-key buffer of `for_each_leaf`.
+    prefix: String,
+    rows: usize,
+    written: usize,
+}
+
+impl Csv {
+    fn new(report: &Report, rows: usize) -> Self {
+        let mut text = String::new();
+        for line in &report.provenance {
+            let _ = writeln!(text, "# {line}");
+        }
+        Csv {
+            text,
+            prefix: String::new(),
+            rows,
+            written: 0,
+        }
     }
-}
 
-/// The header line: the flattened keys of `row`.
-fn csv_header(row: &Row, s: &mut String, prefix: &mut String) {
-    csv_record(row, s, prefix, true);
-}
-
-fn csv_line(row: &Row, s: &mut String, prefix: &mut String) {
-    csv_record(row, s, prefix, false);
-}
-
-/// One CSV line of `row`: its flattened keys, or its values.
-fn csv_record(row: &Row, s: &mut String, prefix: &mut String, keys: bool) {
-    let mut sep = "";
-    for_each_leaf(row, prefix, &mut |k, v| {
-        s.push_str(sep);
-        if keys {
-            s.push_str(k);
+    /// One row's line, after the header if it is the first.
+    fn row(&mut self, row: &Row) {
+        if self.written == 0 {
+            let head = self.text.len();
+            self.record(row, true);
+            self.record(row, false);
+            // Every line about as long as the first: one allocation for them all.
+            self.text.reserve((self.text.len() - head) * self.rows);
         } else {
-            v.write_csv(s);
+            self.record(row, false);
         }
-        sep = ",";
-    });
-    s.push('\n');
-}
+        self.written += 1;
+    }
 
-fn csv_summary(report: &Report, s: &mut String) {
-    if let Some(summary) = &report.summary {
-        s.push_str("# summary\n");
-        for (k, v) in flatten(summary) {
-            let _ = writeln!(s, "# {k},{}", v.plain());
+    /// One CSV line of `row`: its flattened keys, or its values.
+    fn record(&mut self, row: &Row, keys: bool) {
+        let (text, mut sep) = (&mut self.text, "");
+        for_each_leaf(row, &mut self.prefix, &mut |k, v| {
+            text.push_str(sep);
+            if keys {
+                text.push_str(k);
+            } else {
+                v.write_csv(text);
+            }
+            sep = ",";
+        });
+        text.push('\n');
+    }
+
+    fn finish(mut self, report: &Report) -> String {
+        if let Some(summary) = &report.summary {
+            self.text.push_str("# summary\n");
+            for (k, v) in flatten(summary) {
+                let _ = writeln!(self.text, "# {k},{}", v.plain());
+            }
         }
+        self.text
     }
 }
 

@@ -289,6 +289,12 @@ impl Panel {
     }
 }
 
+/// The distance in v from a peak panel's end to the peak's poles (offset ± iγ): of order
+/// 1 and below, so √(a² + b²) without hypot's scaling.
+fn pole_distance(gamma: f64, offset: f64) -> f64 {
+    (offset * offset + gamma * gamma).sqrt()
+}
+
 /// The Bernstein ρ of a point z of the complex plane for a rule on [−1, 1]: the ellipse with
 /// foci ±1 through z has ρ = |z ± √(z² − 1)| (the larger).
 fn bernstein_rho(z: Complex64) -> f64 {
@@ -353,8 +359,7 @@ impl Kernel {
     #[inline]
     fn fill(&self, panel: &Panel, rule: &Rule, out: &mut Nodes) -> usize {
         #[cfg(target_arch = "x86_64")]
-        if std::arch::is_x86_feature_detected!("avx2") && std::arch::is_x86_feature_detected!("fma")
-        {
+        if crate::numeric::fast::avx2_fma() {
             // SAFETY: the CPU has AVX2 and FMA, checked on the line above.
             return unsafe { self.fill_avx2(panel, rule, out) };
         }
@@ -549,8 +554,7 @@ impl Panels<'_> {
                     End::Plain => false,
                     End::Root => true,
                     End::Peak { gamma, offset } => {
-                        (offset * offset + gamma * gamma).sqrt()
-                            < (-self.last.v).min(HEAD_BEYOND_PEAK)
+                        pole_distance(gamma, offset) < (-self.last.v).min(HEAD_BEYOND_PEAK)
                     }
                 };
                 let mut x0 = head_end(breaks, self.last.x, singular_end);
@@ -977,9 +981,8 @@ fn collect_breaks<const N: usize>(
     // √(offset² + γ²) in v.
     let mut beyond: Option<(f64, End)> = None;
     let mut before: Option<(f64, End)> = None;
-    // (Distances in v, of order 1 and below: √(a² + b²) without hypot's scaling.)
     let nearest = |slot: &mut Option<(f64, End)>, gamma: f64, offset: f64| {
-        let distance = (offset * offset + gamma * gamma).sqrt();
+        let distance = pole_distance(gamma, offset);
         if slot.is_none_or(|(d, _)| distance < d) {
             *slot = Some((distance, End::Peak { gamma, offset }));
         }
@@ -1101,9 +1104,7 @@ fn log_panels(a: Break, b: Break, beyond: [Option<Break>; 2], emit: &mut impl Fn
     // least the interval's length away gains nothing from grading: plain rules see ρ ≥ 5.8
     // there. (A far peak beyond x_max used to cost a graded panel of its own.)
     let near = |end: End| match end {
-        End::Peak { gamma, offset } if (offset * offset + gamma * gamma).sqrt() >= hi - lo => {
-            End::Plain
-        }
+        End::Peak { gamma, offset } if pole_distance(gamma, offset) >= hi - lo => End::Plain,
         other => other,
     };
     let (at_lo, at_hi) = (near(b.end), near(a.end));
@@ -1358,9 +1359,7 @@ mod tests {
     #[cfg(target_arch = "x86_64")]
     #[test]
     fn node_loops_give_the_same_bits_with_and_without_avx2() {
-        if !(std::arch::is_x86_feature_detected!("avx2")
-            && std::arch::is_x86_feature_detected!("fma"))
-        {
+        if !crate::numeric::fast::avx2_fma() {
             return;
         }
         let dressed = crate::vp::Dressed::new(FermionPair::muon(), crate::vp::Vp::full());

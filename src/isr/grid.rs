@@ -153,39 +153,20 @@ impl Isr {
         points: &[usize],
     ) -> Vec<(usize, Result<Observed, IsrError>)> {
         let run = Nodes::of(s, points);
-        let nodes: Result<Vec<Observed>, IsrError> = (0..NODES)
-            .into_par_iter()
-            .map(|k| self.observe(sigma, run.s(k)))
-            .collect();
-        let Ok(nodes) = nodes else {
+        let fit = RunFit::of(&run, points.len(), |s_k| self.observe(sigma, s_k));
+        let Some(fit) = fit.filter(|f| f.error <= self.rel_tol * f.smallest) else {
             return self.observe_alone(sigma, s, points);
         };
-        let series = Chebyshev::fit(&nodes.iter().map(|o| o.sigma_nb).collect::<Vec<_>>());
-        let error = worst_error(&nodes) + series.tail();
-        let smallest = nodes
-            .iter()
-            .map(|o| o.sigma_nb.abs())
-            .fold(f64::INFINITY, f64::min);
-        let converged = nodes.iter().all(|o| o.status == Status::Converged);
-        if !(converged && error <= self.rel_tol * smallest) {
-            return self.observe_alone(sigma, s, points);
-        }
-        let share = nodes
-            .iter()
-            .map(|o| o.evaluations)
-            .sum::<usize>()
-            .div_ceil(points.len());
-        let panels = nodes.iter().map(|o| o.panels).max().unwrap_or(0);
         let th = sigma.threshold_s_gev2().max(0.0);
         points
             .iter()
             .map(|&i| {
                 let r = self.cuts().x_limit(s[i], th).map(|x_max| Observed {
-                    sigma_nb: series.eval(run.u(s[i])),
-                    error_nb: error,
+                    sigma_nb: fit.series.eval(run.u(s[i])),
+                    error_nb: fit.error,
                     x_max,
-                    evaluations: share,
-                    panels,
+                    evaluations: fit.share,
+                    panels: fit.panels,
                     interpolated: true,
                     status: Status::Converged,
                 });
@@ -203,26 +184,10 @@ impl Isr {
         s_c: f64,
     ) -> Vec<(usize, Result<Observed, IsrError>)> {
         let run = Nodes::of(s, points);
-        let far: Result<Vec<Observed>, IsrError> = (0..NODES)
-            .into_par_iter()
-            .map(|k| {
-                let s_k = run.s(k);
-                self.observe_range(sigma, s_k, 1.0 - s_c / s_k, 1.0)
-            })
-            .collect();
-        let Ok(far) = far else {
+        let far = |s_k: f64| self.observe_range(sigma, s_k, 1.0 - s_c / s_k, 1.0);
+        let Some(far) = RunFit::of(&run, points.len(), far) else {
             return self.observe_alone(sigma, s, points);
         };
-        if far.iter().any(|o| o.status != Status::Converged) {
-            return self.observe_alone(sigma, s, points);
-        }
-        let series = Chebyshev::fit(&far.iter().map(|o| o.sigma_nb).collect::<Vec<_>>());
-        let far_error = worst_error(&far) + series.tail();
-        let share = far
-            .iter()
-            .map(|o| o.evaluations)
-            .sum::<usize>()
-            .div_ceil(points.len());
         points
             .par_iter()
             .map(|&i| {
@@ -231,8 +196,8 @@ impl Isr {
                     Ok(near) => near,
                     Err(e) => return (i, Err(e)),
                 };
-                let value = near.sigma_nb + series.eval(run.u(s_i));
-                let error = near.error_nb + far_error;
+                let value = near.sigma_nb + far.series.eval(run.u(s_i));
+                let error = near.error_nb + far.error;
                 let r = if near.status == Status::Converged
                     && value.is_finite()
                     && error <= self.rel_tol * value.abs()
@@ -240,7 +205,7 @@ impl Isr {
                     Ok(Observed {
                         sigma_nb: value,
                         error_nb: error,
-                        evaluations: near.evaluations + share,
+                        evaluations: near.evaluations + far.share,
                         interpolated: true,
                         ..near
                     })
@@ -253,9 +218,49 @@ impl Isr {
     }
 }
 
-/// The largest estimated error among `obs`.
-fn worst_error(obs: &[Observed]) -> f64 {
-    obs.iter().map(|o| o.error_nb).fold(0.0, f64::max)
+/// A run's integrals at its Chebyshev nodes, interpolated: the series, its error (the
+/// nodes' worst estimate plus the series' tail), each point's share of the evaluations, the
+/// most panels a node took, and the smallest |value| at the nodes.
+struct RunFit {
+    series: Chebyshev,
+    error: f64,
+    share: usize,
+    panels: usize,
+    smallest: f64,
+}
+
+impl RunFit {
+    /// None where a node failed or missed its own target (the run then goes point by point).
+    fn of(
+        run: &Nodes,
+        points: usize,
+        integral: impl Fn(f64) -> Result<Observed, IsrError> + Sync,
+    ) -> Option<Self> {
+        let nodes: Vec<Observed> = (0..NODES)
+            .into_par_iter()
+            .map(|k| integral(run.s(k)))
+            .collect::<Result<_, _>>()
+            .ok()?;
+        if nodes.iter().any(|o| o.status != Status::Converged) {
+            return None;
+        }
+        let series = Chebyshev::fit(&nodes.iter().map(|o| o.sigma_nb).collect::<Vec<_>>());
+        let worst = nodes.iter().map(|o| o.error_nb).fold(0.0, f64::max);
+        Some(RunFit {
+            error: worst + series.tail(),
+            series,
+            share: nodes
+                .iter()
+                .map(|o| o.evaluations)
+                .sum::<usize>()
+                .div_ceil(points),
+            panels: nodes.iter().map(|o| o.panels).max().unwrap_or(0),
+            smallest: nodes
+                .iter()
+                .map(|o| o.sigma_nb.abs())
+                .fold(f64::INFINITY, f64::min),
+        })
+    }
 }
 
 /// A run's span [lo, hi] in s (its first and last energy) and its Chebyshev nodes there.

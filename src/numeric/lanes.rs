@@ -22,6 +22,14 @@ pub trait Rounding {
     fn mul_add(a: f64, p: f64, c: f64) -> f64;
 }
 
+/// Whether this CPU runs the copies of the node loops compiled for AVX2 and FMA, the ones
+/// that take [`Fused`] (the only place it belongs).
+#[cfg(target_arch = "x86_64")]
+#[inline]
+pub fn avx2_fma() -> bool {
+    std::arch::is_x86_feature_detected!("avx2") && std::arch::is_x86_feature_detected!("fma")
+}
+
 /// Two roundings: `c + a·p`.
 pub enum Separate {}
 

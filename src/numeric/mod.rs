@@ -26,6 +26,8 @@ pub use kronrod::KronrodPair;
 pub use li2::{li2, li2_complex};
 pub mod fast {
     //! Branch-free elementary functions for vectorisable node loops.
+    #[cfg(target_arch = "x86_64")]
+    pub use super::lanes::avx2_fma;
     pub use super::lanes::{
         Coefficient, Fused, Rounding, Separate, estrin, exp, exp_and_exp_m1, ln, ln_one_minus,
     };

@@ -273,7 +273,7 @@ impl RModel {
             edition: params.edition.clone(),
         };
         // Re Π of the smooth R by its dispersion rule (µs a point; the tables come later).
-        let smooth = crate::vp::hadronic::SmoothRule::new(&model);
+        let smooth = SmoothRule::new(&model);
         model.undress_widths(&smooth);
         let pdg: Vec<Feature> = model.resonances.iter().map(Resonance::peak).collect();
         model.undress_poles(&smooth);

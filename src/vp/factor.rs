@@ -287,7 +287,7 @@ mod tests {
     use crate::numeric::fast::{Fused, Separate};
 
     #[test]
-    fn branch_free_search_counts_like_partition_point() {
+    fn the_search_counts_like_partition_point() {
         // Against the standard library's search, on edges with repeats and on points at,
         // between and outside them.
         let edges = [0.5, 1.0, 1.0, 2.0, 3.5, 3.5, 3.5, 7.0, 9.0];

@@ -227,8 +227,7 @@ impl Vp {
     }
 
     fn build_factor_table(&self, parallel: bool) -> FactorTable {
-        let mut breaks = Vec::new();
-        let mut roots = Vec::new();
+        let (mut breaks, mut roots, mut poles) = (Vec::new(), Vec::new(), Vec::new());
         let peak = |m2: f64, mg: f64, breaks: &mut Vec<f64>| {
             breaks.extend(PEAK_BREAKS.iter().map(|k| m2 + k * mg));
         };
@@ -250,7 +249,11 @@ impl Vp {
                 Feature::Peak {
                     s_gev2,
                     m_gamma_gev2,
-                } => peak(s_gev2, m_gamma_gev2, &mut breaks),
+                } => {
+                    peak(s_gev2, m_gamma_gev2, &mut breaks);
+                    // Graded away from it from its outermost break on.
+                    poles.push((s_gev2, PEAK_BREAKS[PEAK_BREAKS.len() - 1] * m_gamma_gev2));
+                }
             }
         }
         if let Some(h) = &self.hadronic {
@@ -274,18 +277,6 @@ impl Vp {
             }
             breaks.extend(h.timelike_breaks());
         }
-        let last_step = PEAK_BREAKS[PEAK_BREAKS.len() - 1];
-        let poles: Vec<(f64, f64)> = self
-            .features
-            .iter()
-            .filter_map(|f| match *f {
-                Feature::Peak {
-                    s_gev2,
-                    m_gamma_gev2,
-                } => Some((s_gev2, last_step * m_gamma_gev2)),
-                Feature::Edge { .. } => None,
-            })
-            .collect();
         FactorTable::build(
             &|s| 1.0 / (1.0 - self.pi(s)),
             &breaks,
@@ -306,13 +297,18 @@ impl Vp {
     fn times_norm_sqr<R: Rounding>(&self, s_gev2: &[f64], out: &mut [f64]) {
         let table = self.factor_table();
         for (o, &s) in out.iter_mut().zip(s_gev2) {
-            // A match, not `unwrap_or_else`: that stayed a call per point, the Option passed
-            // through memory (4% of an ISR point).
-            let factor = match table.get::<R>(s) {
-                Some(factor) => factor,
-                None => self.direct_factor(s),
-            };
-            *o *= factor.norm_sqr();
+            *o *= self.factor_from::<R>(table, s).norm_sqr();
+        }
+    }
+
+    /// 1/(1 − Π(s)) from `table`, directly outside its range. (A match, not
+    /// `unwrap_or_else`: that stayed a call per point, the Option passed through memory, 4%
+    /// of an ISR point.)
+    #[inline(always)]
+    fn factor_from<R: Rounding>(&self, table: &FactorTable, s_gev2: f64) -> Complex64 {
+        match table.get::<R>(s_gev2) {
+            Some(factor) => factor,
+            None => self.direct_factor(s_gev2),
         }
     }
 
@@ -388,10 +384,7 @@ impl Polarisation for Vp {
         if self.choice == VpChoice::None {
             return Complex64::new(1.0, 0.0);
         }
-        match self.factor_table().get::<Separate>(s_gev2) {
-            Some(factor) => factor,
-            None => self.direct_factor(s_gev2),
-        }
+        self.factor_from::<Separate>(self.factor_table(), s_gev2)
     }
     /// One look at the choice and the table's cell for the whole batch; on CPUs with AVX2
     /// and FMA from a copy compiled for them, the series' steps fused (see
@@ -402,8 +395,7 @@ impl Polarisation for Vp {
             return;
         }
         #[cfg(target_arch = "x86_64")]
-        if std::arch::is_x86_feature_detected!("avx2") && std::arch::is_x86_feature_detected!("fma")
-        {
+        if crate::numeric::fast::avx2_fma() {
             // SAFETY: the CPU has AVX2 and FMA, checked on the line above.
             return unsafe { self.times_norm_sqr_avx2(s_gev2, out) };
         }

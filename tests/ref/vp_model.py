@@ -8,7 +8,8 @@ GeV) are passed in by the test, because undressing them needs the timelike Pi at
 a separate step tested elsewhere.
 
 Arguments: q2 (spacelike, GeV^2) followed by `name=gamma_ee_bare_kev:mass_gev:width_gev`.
-Prints `smooth value`, `bw value` and `r_<sqrt_s> value` lines.
+Prints `smooth value` (and `smooth_<region> value` for the pi pi, inclusive and pQCD shares),
+`bw value` and `r_<sqrt_s> value` lines.
 """
 import math
 import sys
@@ -120,15 +121,20 @@ def r_pipi(s):
     return 0.25 * b**3 * abs(f) ** 2
 
 
-def r_smooth(s):
+def r_parts(s):
+    """R_smooth split by region as the model documents it: (pi pi, inclusive, pQCD)."""
     if s <= STH:
-        return 0.0
+        return 0.0, 0.0, 0.0
     e = math.sqrt(s)
     if e >= 2.0:
-        return r_pqcd(s, True)
+        return 0.0, 0.0, r_pqcd(s, True)
     t = min(max((e - 1.0) / 0.6, 0), 1)
     w = t * t * (3 - 2 * t)
-    return (1 - w) * r_pipi(s) + (w * r_pqcd(s, False) if w > 0 else 0.0)
+    return (1 - w) * r_pipi(s), (w * r_pqcd(s, False) if w > 0 else 0.0), 0.0
+
+
+def r_smooth(s):
+    return sum(r_parts(s))
 
 
 q2 = float(sys.argv[1])
@@ -138,14 +144,24 @@ edges = sorted({STH, 1.0, 1.6**2, TH["m_c_msbar_gev"] ** 2, 4.0, TH["m_b_msbar_g
                 (2 * TH["m_b_charged_gev"]) ** 2, (2 * TH["m_b_charged_gev"] + 0.2) ** 2,
                 RHO["mass_gev"] ** 2, OM["mass_gev"] ** 2, 1e2, 1e3, 1e4, 1e6, 1e8, 1e10, 1e12})
 kernel = lambda s, r: r(s) / (s * (s - q2))
-total = 0.0
-for lo, hi in zip(edges, edges[1:]):
-    pts = [OM["mass_gev"] ** 2 + k * OM["mass_gev"] * OM["width_gev"] for k in (-3, -1, 0, 1, 3)]
-    pts = [p for p in pts if lo < p < hi] or None
-    total += quad(kernel, lo, hi, args=(r_smooth,), points=pts, limit=1000,
-                  epsabs=0, epsrel=1e-12)[0]
-total += quad(lambda u: r_smooth(1e12 / u) / (1e12 - q2 * u), 0, 1, epsabs=0, epsrel=1e-12)[0]
-print(f"smooth {-ALPHA * q2 / (3 * math.pi) * total:.15e}")
+
+
+def smooth_delta_alpha(r):
+    total = 0.0
+    for lo, hi in zip(edges, edges[1:]):
+        pts = [OM["mass_gev"] ** 2 + k * OM["mass_gev"] * OM["width_gev"]
+               for k in (-3, -1, 0, 1, 3)]
+        pts = [p for p in pts if lo < p < hi] or None
+        total += quad(kernel, lo, hi, args=(r,), points=pts, limit=1000,
+                      epsabs=0, epsrel=1e-12)[0]
+    total += quad(lambda u: r(1e12 / u) / (1e12 - q2 * u), 0, 1, epsabs=0, epsrel=1e-12)[0]
+    return -ALPHA * q2 / (3 * math.pi) * total
+
+
+print(f"smooth {smooth_delta_alpha(r_smooth):.15e}")
+# Each region's share on its own (the parts jump at 2 GeV, an edge above).
+for i, name in enumerate(("pipi", "inclusive", "pqcd")):
+    print(f"smooth_{name} {smooth_delta_alpha(lambda s, i=i: r_parts(s)[i]):.15e}")
 bw = 0.0
 for r in P["resonance"]:
     gee, m, g = bare[r["name"]]
