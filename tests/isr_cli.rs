@@ -178,6 +178,11 @@ fn bad_input_is_a_clear_error() {
         &with(&["--energy-spread-mev", "-1"]),
         "--energy-spread-mev -1",
     );
+    // A spread wider than √s/8 (1250 MeV at 10 GeV) puts the ±8σ window at W ≤ 0.
+    fails(
+        &with(&["--energy-spread-mev", "1300"]),
+        "--energy-spread-mev 1300: too wide at sqrt_s = 10 GeV; allowed: ≤ 1250 MeV",
+    );
     fails(&with(&["--radiator", "kf9"]), "kf9");
     fails(&["--process", "hadrons", "--sqrt-s", "3", "--fsr"], "--fsr");
 }

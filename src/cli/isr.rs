@@ -8,7 +8,8 @@ use rayon::prelude::*;
 use super::output::{OutputArgs, Report, Row, emit_rows};
 use super::{flag_error, parse_energy_grid};
 use radnorm::isr::{
-    Cuts, Isr, IsrError, Observed, RUN_NODES, Radiated, Scheme, Smeared, schwinger_factor,
+    Cuts, Isr, IsrError, Observed, RUN_NODES, Radiated, Scheme, Smeared, max_spread_mev,
+    schwinger_factor,
 };
 use radnorm::process::{ConstantR, CrossSection, FermionPair, Hadrons, RRatio};
 use radnorm::rmodel::RModel;
@@ -127,6 +128,13 @@ pub fn run(args: IsrArgs) -> Result<()> {
     let spread_mev = args.energy_spread_mev.unwrap_or(0.0);
     if !(spread_mev >= 0.0 && spread_mev.is_finite()) {
         bail!("--energy-spread-mev {spread_mev}: not allowed; allowed: a finite spread ≥ 0 MeV");
+    }
+    let lowest = grid.points().iter().copied().fold(f64::INFINITY, f64::min);
+    if spread_mev > max_spread_mev(lowest) {
+        bail!(
+            "--energy-spread-mev {spread_mev}: too wide at sqrt_s = {lowest} GeV; allowed: ≤ {} MeV (sqrt_s/8: the Gaussian's ±8σ window stays at positive energy)",
+            max_spread_mev(lowest)
+        );
     }
     if args.r_const.is_some() && args.process != IsrProcess::Hadrons {
         bail!("--r-const: applies to --process hadrons only");

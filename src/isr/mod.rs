@@ -17,7 +17,7 @@ pub use cuts::Cuts;
 pub use fsr::schwinger_factor;
 pub use grid::NODES as RUN_NODES;
 pub use radiator::{Radiator, Scheme};
-pub use spread::{Order, Smeared, visit_spread_nodes};
+pub use spread::{Order, Smeared, max_spread_mev, visit_spread_nodes};
 
 use thiserror::Error;
 

@@ -27,6 +27,14 @@ const FAST_MIN_WIDTH_SIGMAS: f64 = 4.0;
 /// Breakpoints across the Gaussian itself, in σ_W.
 const GAUSS_STEPS: [f64; 7] = [-4.0, -2.0, -1.0, 0.0, 1.0, 2.0, 4.0];
 
+/// The largest spread σ_W in MeV the Gaussian model takes at √s = W: the window W ± 8σ_W it
+/// integrates must stay at positive energy, σ_W ≤ W/8. A wider Gaussian is no beam-energy
+/// spread (machines quote 10⁻⁴–10⁻³ of W; from memory) and would weight energies where the
+/// model means nothing.
+pub fn max_spread_mev(sqrt_s_gev: f64) -> f64 {
+    1e3 * sqrt_s_gev / RANGE_SIGMAS
+}
+
 /// σ_sm(W) = ∫ G(W′ − W; σ_W) σ(W′²) dW′ with G the normal density in √s of width σ_W.
 ///
 /// The spread is the machine's centre-of-mass energy spread; it matters within a few σ_W
@@ -70,7 +78,9 @@ impl<C: CrossSection> Smeared<C> {
         self.spread_gev
     }
 
-    /// The convolution at √s = W (GeV) with its error record.
+    /// The convolution at √s = W (GeV) with its error record. Meant for spreads up to
+    /// [`max_spread_mev`]; above, the window is cut at the threshold and the value is
+    /// finite but not a physical one.
     pub fn smeared(&self, sqrt_s_gev: f64) -> Integral {
         let sw = self.spread_gev;
         if sw == 0.0 {

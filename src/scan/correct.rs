@@ -311,10 +311,10 @@ pub fn correct_scan(plan: &ScanPlan, data: &[ScanPoint]) -> Result<CorrectedScan
     let luminosity = plan.luminosity.evaluate(data)?;
     let lumi = &luminosity.values;
     let energies: Vec<f64> = data.iter().map(|p| p.sqrt_s_gev).collect();
-    let spread: Vec<f64> = data
+    let spread = data
         .iter()
-        .map(|p| p.energy_spread_mev.unwrap_or(plan.energy_spread_mev))
-        .collect();
+        .map(|p| p.spread_mev(plan.energy_spread_mev))
+        .collect::<Result<Vec<f64>, _>>()?;
     let obs: Vec<f64> = data
         .iter()
         .zip(lumi)

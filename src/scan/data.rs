@@ -10,11 +10,12 @@
 //! | `efficiency` | signal selection efficiency × acceptance | 0 < ε ≤ 1 |
 //! | `luminosity_nb_inv` | integrated luminosity, nb⁻¹ | > 0 |
 //! | `n_bhabha`, `n_bhabha_bkg`, `bhabha_efficiency` | luminosity-monitor counts instead of `luminosity_nb_inv` | as for the signal |
-//! | `energy_spread_mev` | optional: the centre-of-mass energy spread σ_W of this point, MeV | ≥ 0 |
+//! | `energy_spread_mev` | optional: the centre-of-mass energy spread σ_W of this point, MeV | 0 to √s/8 |
 //!
 //! Give either `luminosity_nb_inv` or all three Bhabha columns, not both.
 
 use super::ScanError;
+use crate::isr::max_spread_mev;
 use std::path::Path;
 
 /// How the luminosity of a point is given.
@@ -40,6 +41,25 @@ pub struct ScanPoint {
     pub luminosity: LuminosityInput,
     /// Centre-of-mass energy spread σ_W in MeV, if this row gives one.
     pub energy_spread_mev: Option<f64>,
+}
+
+impl ScanPoint {
+    /// The point's spread in MeV: its own, else `default_mev` (the card's), which must not
+    /// exceed [`max_spread_mev`] at the point's energy (its own was checked when read).
+    ///
+    /// # Errors
+    /// The default too wide at this energy.
+    pub fn spread_mev(&self, default_mev: f64) -> Result<f64, ScanError> {
+        let w = self.energy_spread_mev.unwrap_or(default_mev);
+        let most = max_spread_mev(self.sqrt_s_gev);
+        if w > most {
+            return Err(ScanError::Model(format!(
+                "beam.energy_spread_mev {w} is too wide at sqrt_s = {} GeV; allowed: ≤ {most} MeV (sqrt_s/8)",
+                self.sqrt_s_gev
+            )));
+        }
+        Ok(w)
+    }
 }
 
 const KNOWN: [&str; 9] = [
@@ -191,8 +211,12 @@ pub fn parse_scan(text: &str, file: &str) -> Result<Vec<ScanPoint>, ScanError> {
         let energy_spread_mev = match col("energy_spread_mev") {
             Some(_) => {
                 let w = value("energy_spread_mev")?;
-                if w < 0.0 {
-                    return Err(bad("energy_spread_mev", format!("{w}; allowed: ≥ 0")));
+                let most = max_spread_mev(sqrt_s_gev);
+                if !(0.0..=most).contains(&w) {
+                    return Err(bad(
+                        "energy_spread_mev",
+                        format!("{w}; allowed: 0 to {most} (sqrt_s/8) at this energy"),
+                    ));
                 }
                 Some(w)
             }
@@ -243,6 +267,27 @@ mod tests {
         .unwrap();
         assert!(matches!(b[0].luminosity, LuminosityInput::Bhabha { .. }));
         assert_eq!(b[0].energy_spread_mev, Some(1.2));
+    }
+
+    #[test]
+    fn spreads_are_checked_against_the_energy() {
+        // √s/8 at 3 GeV is 375 MeV: a row above is an error naming its column; a card default
+        // above is an error when a row without its own spread takes it.
+        let head = "sqrt_s_gev,n_events,n_bkg,efficiency,luminosity_nb_inv,energy_spread_mev\n";
+        let err = parse_scan(&format!("{head}3.0,100,2,0.8,10,400\n"), "s.csv")
+            .unwrap_err()
+            .to_string();
+        assert!(
+            err.contains("column energy_spread_mev") && err.contains("375"),
+            "{err}"
+        );
+        let p = parse_scan(&format!("{HEAD}3.0,100,2,0.8,10\n"), "s.csv").unwrap();
+        assert_eq!(p[0].spread_mev(2.0).unwrap(), 2.0);
+        let err = p[0].spread_mev(400.0).unwrap_err().to_string();
+        assert!(
+            err.contains("beam.energy_spread_mev 400") && err.contains("375"),
+            "{err}"
+        );
     }
 
     #[test]

@@ -262,15 +262,14 @@ impl FitPoint {
 /// A luminosity the plan cannot provide (Bhabha counts without a monitor).
 pub fn observed_points(plan: &ScanPlan, data: &[ScanPoint]) -> Result<Vec<FitPoint>, ScanError> {
     let luminosity = plan.luminosity.evaluate(data)?;
-    Ok(data
-        .iter()
+    data.iter()
         .zip(&luminosity.values)
         .map(|(p, &(l, dl))| {
             let sigma = (p.n_events - p.n_bkg) / (p.efficiency * l);
             let stat = p.n_events.sqrt() / (p.efficiency * l);
-            FitPoint {
+            Ok(FitPoint {
                 sqrt_s_gev: p.sqrt_s_gev,
-                energy_spread_mev: p.energy_spread_mev.unwrap_or(plan.energy_spread_mev),
+                energy_spread_mev: p.spread_mev(plan.energy_spread_mev)?,
                 sigma_obs_nb: sigma,
                 sigma_obs_stat_nb: stat.hypot(sigma * dl / l),
                 noise: Noise::Counts {
@@ -278,9 +277,9 @@ pub fn observed_points(plan: &ScanPlan, data: &[ScanPoint]) -> Result<Vec<FitPoi
                     sigma_bkg_nb: p.n_bkg / (p.efficiency * l),
                     luminosity_rel: dl / l,
                 },
-            }
+            })
         })
-        .collect())
+        .collect()
 }
 
 /// The dressed resonance σ_R(s) of the module doc (nb), with its narrow-width area.

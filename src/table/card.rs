@@ -7,7 +7,7 @@
 //! sqrt_s_gev = "2.0:12.0:1000"    # a value, a grid start:stop:count (ends included) or a list
 //! processes = ["mumu", "hadrons"] # mumu | tautau | hadrons (default ["mumu"])
 //! r_ratio = 2.0                   # optional: a constant R for hadrons instead of the R model
-//! energy_spread_mev = 0.0         # Gaussian centre-of-mass spread of σ_obs (default 0)
+//! energy_spread_mev = 0.0         # Gaussian centre-of-mass spread of σ_obs (default 0; ≤ √s/8)
 //!
 //! [radiation]
 //! radiator = "kf2"                # kf2 | exp1 | sfll (default kf2)
@@ -30,7 +30,7 @@
 //! ```
 
 use super::{Change, CutSet, TablePlan, TablePlanError, TableProcess, Variation};
-use crate::isr::{Cuts, Scheme};
+use crate::isr::{Cuts, Scheme, max_spread_mev};
 use crate::numeric::Grid;
 use crate::process::{ConstantR, CrossSection, FermionPair, Hadrons, RRatio};
 use crate::rmodel::{RModel, Region};
@@ -249,11 +249,18 @@ fn scheme(key: &str, name: &str) -> Result<Scheme, TablePlanError> {
     })
 }
 
-fn spread(key: &str, w: f64) -> Result<f64, TablePlanError> {
-    if (0.0..=1e3).contains(&w) {
+/// A spread in MeV: at most 1000 MeV and at most [`max_spread_mev`] at the lowest energy.
+fn spread(key: &str, w: f64, lowest_gev: f64) -> Result<f64, TablePlanError> {
+    let most = max_spread_mev(lowest_gev).min(1e3);
+    if (0.0..=most).contains(&w) {
         Ok(w)
     } else {
-        Err(err(key, format!("{w}; allowed: 0 ≤ {key} ≤ 1000 MeV")))
+        Err(err(
+            key,
+            format!(
+                "{w}; allowed: 0 ≤ {key} ≤ {most} MeV (at most 1000 MeV and sqrt_s/8 at the lowest energy, {lowest_gev} GeV)"
+            ),
+        ))
     }
 }
 
@@ -296,6 +303,8 @@ fn variations(
     raw: &RawVariation,
     nominal: Scheme,
     vp_choice: VpChoice,
+    lowest_gev: f64,
+    spread_mev: f64,
 ) -> Result<Vec<Variation>, TablePlanError> {
     let key = |k: &str| format!("variation[{i}].{k}");
     let given = [
@@ -340,13 +349,22 @@ fn variations(
                 format!("{d}; allowed: 0 < |sqrt_s_shift_mev| ≤ 1000 MeV"),
             ));
         }
+        let shifted = lowest_gev + 1e-3 * d;
+        if !(shifted > 0.0 && spread_mev <= max_spread_mev(shifted)) {
+            return Err(err(
+                &key("sqrt_s_shift_mev"),
+                format!(
+                    "{d} moves the lowest energy {lowest_gev} GeV to {shifted} GeV; allowed: shifts that keep it above 0 and above 8 × grid.energy_spread_mev"
+                ),
+            ));
+        }
         return one(
             Change::SqrtSShiftMev(d),
             format!("every energy moved by {d} MeV (beam-energy calibration)"),
         );
     }
     if let Some(w) = raw.energy_spread_mev {
-        let w = spread(&key("energy_spread_mev"), w)?;
+        let w = spread(&key("energy_spread_mev"), w, lowest_gev)?;
         return one(
             Change::SpreadMev(w),
             format!("centre-of-mass spread {w} MeV"),
@@ -425,9 +443,11 @@ impl TryFrom<RawTableCard> for TablePlan {
         if raw.grid.r_ratio.is_some() && !names.iter().any(|n| n == "hadrons") {
             return Err(err("grid.r_ratio", "only with the process hadrons"));
         }
+        let lowest_gev = energies_gev.iter().copied().fold(f64::INFINITY, f64::min);
         let spread_mev = spread(
             "grid.energy_spread_mev",
             raw.grid.energy_spread_mev.unwrap_or(0.0),
+            lowest_gev,
         )?;
         let scheme = scheme(
             "radiation.radiator",
@@ -466,7 +486,7 @@ impl TryFrom<RawTableCard> for TablePlan {
         let mut all = Vec::new();
         for (i, v) in raw.variation.iter().enumerate() {
             check_name(&format!("variation[{i}].name"), &v.name, &mut seen)?;
-            for var in variations(i, v, scheme, vp_choice)? {
+            for var in variations(i, v, scheme, vp_choice, lowest_gev, spread_mev)? {
                 if all.iter().any(|a: &Variation| a.name == var.name) {
                     return Err(err(
                         &format!("variation[{i}].name"),
@@ -514,6 +534,24 @@ mod tests {
             (
                 "[grid]\nsqrt_s_gev = 3.0\nenergy_spread_mev = -1.0\n",
                 "grid.energy_spread_mev",
+            ),
+            // Wider than √s/8 at the lowest energy (62.5 MeV at 0.5 GeV).
+            (
+                "[grid]\nsqrt_s_gev = [0.5, 3.0]\nenergy_spread_mev = 70.0\n",
+                "grid.energy_spread_mev",
+            ),
+            (
+                "[grid]\nsqrt_s_gev = 0.5\n[[variation]]\nname = \"w\"\nenergy_spread_mev = 70.0\n",
+                "variation[0].energy_spread_mev",
+            ),
+            // A shift that takes the lowest energy to 0 or below, or below 8σ_W.
+            (
+                "[grid]\nsqrt_s_gev = 0.5\n[[variation]]\nname = \"e\"\nsqrt_s_shift_mev = -500.0\n",
+                "variation[0].sqrt_s_shift_mev",
+            ),
+            (
+                "[grid]\nsqrt_s_gev = 0.5\nenergy_spread_mev = 60.0\n[[variation]]\nname = \"e\"\nsqrt_s_shift_mev = -50.0\n",
+                "variation[0].sqrt_s_shift_mev",
             ),
             (
                 "[grid]\nsqrt_s_gev = 3.0\n[radiation]\nradiator = \"x\"\n",
