@@ -9,7 +9,7 @@ fn main() -> ExitCode {
     match cli::run(cli::Cli::parse()) {
         Ok(()) => ExitCode::SUCCESS,
         Err(e) => {
-            eprintln!("radnorm: error: {e:#}");
+            eprintln!("radnorm: error: {}", cli::error_line(&e));
             ExitCode::from(2)
         }
     }

@@ -174,6 +174,16 @@ fn bad_inputs_fail_clearly_and_write_nothing() {
     // An unwritable place: a folder below a file.
     let err = correct(&card, &csv, &file.join("sub")).failure();
     assert!(!String::from_utf8_lossy(&err.get_output().stderr).is_empty());
+    // A missing data file: named once with the system's reason, said once (not doubled by
+    // the error chain).
+    let gone = dir.path().join("gone.csv");
+    let err = correct(&card, &gone, &dir.path().join("never")).failure();
+    let msg = String::from_utf8_lossy(&err.get_output().stderr).into_owned();
+    assert!(
+        msg.contains("cannot read") && msg.contains("gone.csv"),
+        "{msg}"
+    );
+    assert_eq!(msg.matches("os error").count(), 1, "{msg}");
     // Nothing but the inputs and the blocking file is left behind.
     let mut names: Vec<String> = std::fs::read_dir(dir.path())
         .unwrap()

@@ -65,6 +65,23 @@ pub fn run(cli: Cli) -> Result<()> {
     }
 }
 
+/// The one line an error is reported as: each message of its chain, joined by ": ", leaving
+/// out a cause whose text the line already ends with (error types that name their source in
+/// their own message, as `cannot read {path}: {source}`, would otherwise print it twice).
+pub fn error_line(e: &anyhow::Error) -> String {
+    let mut line = String::new();
+    for cause in e.chain() {
+        let text = cause.to_string();
+        if line.is_empty() {
+            line = text;
+        } else if !line.ends_with(&text) {
+            line.push_str(": ");
+            line.push_str(&text);
+        }
+    }
+    line
+}
+
 /// A ParamError in the words of the command line: the flag, the value, the allowed range.
 pub fn flag_error(e: ParamError) -> anyhow::Error {
     anyhow!(
@@ -84,4 +101,27 @@ pub fn parse_energy_grid(flag: &str, text: &str) -> Result<Grid> {
         ));
     }
     Ok(grid)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn error_line_names_each_cause_once() {
+        // A type that repeats its source in its message, as `ScanError::Io` does.
+        let io = std::io::Error::new(std::io::ErrorKind::NotFound, "no such file");
+        let read = radnorm::scan::ScanError::Io {
+            path: "scan.csv".into(),
+            source: io,
+        };
+        let e = anyhow::Error::new(read).context("--data scan.csv");
+        assert_eq!(
+            error_line(&e),
+            "--data scan.csv: cannot read scan.csv: no such file"
+        );
+        // A context over a cause it does not repeat keeps both.
+        let e = anyhow!("s = 0 GeV² is not allowed").context("sqrt_s_gev = 0");
+        assert_eq!(error_line(&e), "sqrt_s_gev = 0: s = 0 GeV² is not allowed");
+    }
 }
