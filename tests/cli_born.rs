@@ -204,6 +204,8 @@ fn negative_values_reach_our_validation() {
     };
     born_fails(&window("-5", "140"), "--theta-min-deg -5");
     born_fails(&window("40", "-140"), "--theta-max-deg -140");
+    // Closer to the beam than 0.1°: σ_Bhabha ∝ 1/θ² had come out infinite.
+    born_fails(&window("1e-9", "140"), "allowed: 0.1 ≤ theta_min_deg");
     born_fails(
         &["--process", "hadrons", "--sqrt-s", "3", "--r-const", "-1"],
         "--r-const -1",

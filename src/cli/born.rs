@@ -7,8 +7,8 @@ use rayon::prelude::*;
 use super::output::{OutputArgs, Report, Row, emit};
 use super::{flag_error, parse_energy_grid};
 use radnorm::process::{
-    Angular, Bhabha, ConstantR, CosRange, CrossSection, Diphoton, FermionPair, Hadrons, RRatio,
-    WidthScheme, ZExchange,
+    Angular, Bhabha, ConstantR, CosRange, CrossSection, Diphoton, FermionPair, Hadrons,
+    MIN_POLAR_DEG, RRatio, WidthScheme, ZExchange,
 };
 use radnorm::rmodel::RModel;
 
@@ -123,8 +123,13 @@ pub fn run(args: BornArgs) -> Result<()> {
             ),
             _ => CosRange::FULL,
         },
-        (lo, hi) => CosRange::both_inside_deg(lo.unwrap_or(1e-9), hi.unwrap_or(180.0 - 1e-9))
-            .map_err(flag_error)?,
+        // A missing end is the closest to the beam allowed; with the other given it does not
+        // bind (both back-to-back particles inside).
+        (lo, hi) => CosRange::both_inside_deg(
+            lo.unwrap_or(MIN_POLAR_DEG),
+            hi.unwrap_or(180.0 - MIN_POLAR_DEG),
+        )
+        .map_err(flag_error)?,
     };
     let z = args.z.then(|| {
         ZExchange::standard(match args.z_width {

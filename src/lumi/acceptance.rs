@@ -14,6 +14,7 @@
 //! the accepted set is at most two intervals, found in closed form.
 
 use crate::error::ParamError;
+use crate::process::check_polar_deg;
 
 /// Whether collinear final-state photons are counted with their lepton.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -33,11 +34,11 @@ pub struct PolarRange {
 
 impl PolarRange {
     /// # Errors
-    /// Unless 0 < θ_min < θ_max < 180 (degrees); the error names `theta_min_deg` or
-    /// `theta_max_deg`.
+    /// Unless both angles lie within [`check_polar_deg`]'s range (0.1°–179.9°) and
+    /// θ_min < θ_max; the error names `theta_min_deg` or `theta_max_deg`.
     pub fn new(theta_min_deg: f64, theta_max_deg: f64) -> Result<Self, ParamError> {
-        ParamError::check_open("theta_min_deg", theta_min_deg, 0.0, 180.0)?;
-        ParamError::check_open("theta_max_deg", theta_max_deg, 0.0, 180.0)?;
+        check_polar_deg("theta_min_deg", theta_min_deg)?;
+        check_polar_deg("theta_max_deg", theta_max_deg)?;
         if theta_max_deg <= theta_min_deg {
             return Err(ParamError::new(
                 "theta_max_deg",

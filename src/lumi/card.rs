@@ -11,7 +11,7 @@
 //! z_exchange = false          # Z exchange in the Born process (ee, mumu)
 //!
 //! [acceptance]
-//! theta_min_deg = 40.0        # both particles, unless second_* is given
+//! theta_min_deg = 40.0        # both particles, unless second_* is given; 0.1°–179.9°
 //! theta_max_deg = 140.0
 //! second_theta_min_deg = 40.0 # optional: the second particle's own window
 //! second_theta_max_deg = 140.0
@@ -276,6 +276,20 @@ impl TryFrom<RawCard> for LumiPlan {
             sqrt_s_gev: non_negative("uncertainty.sqrt_s_gev", u.sqrt_s_gev)?,
             efficiency_rel: non_negative("uncertainty.efficiency_rel", u.efficiency_rel)?,
         };
+        // The budget moves every polar edge by ±δ (window width and offset): the moved
+        // windows must be acceptances too.
+        let d = uncertainty.theta_edge_deg;
+        for (d_min, d_max) in [(d, -d), (-d, d), (d, d), (-d, -d)] {
+            if let Err(e) = acceptance.with_edges_moved(d_min, d_max) {
+                return Err(CardError::invalid(
+                    "uncertainty.theta_edge_deg",
+                    format!(
+                        "{d}: an edge moved by it gives {} = {}, where the allowed is {}",
+                        e.name, e.value, e.allowed
+                    ),
+                ));
+            }
+        }
         Ok(LumiPlan {
             channel,
             sqrt_s_gev: raw.sqrt_s_gev,
@@ -331,5 +345,17 @@ theta_edge_deg = 0.01
         let bad = CARD.replace("e_min_frac = 0.5", "");
         let e = LumiPlan::try_from(RawCard::parse(&bad).unwrap()).unwrap_err();
         assert!(e.to_string().starts_with("acceptance.e_min_frac"), "{e}");
+        // Closer to the beam than 0.1° (σ_Bhabha ∝ 1/θ² there; 1e-9° had overflowed a
+        // table's size), and an edge uncertainty that would move an edge there.
+        let bad = CARD.replace("theta_min_deg = 40.0", "theta_min_deg = 1e-9");
+        let e = LumiPlan::try_from(RawCard::parse(&bad).unwrap()).unwrap_err();
+        assert!(e.to_string().starts_with("acceptance.theta_min_deg"), "{e}");
+        let bad = CARD.replace("theta_min_deg = 40.0", "theta_min_deg = 0.105");
+        let e = LumiPlan::try_from(RawCard::parse(&bad).unwrap()).unwrap_err();
+        assert!(
+            e.to_string().starts_with("uncertainty.theta_edge_deg")
+                && e.to_string().contains("0.095"),
+            "{e}"
+        );
     }
 }

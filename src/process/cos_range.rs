@@ -2,6 +2,29 @@
 
 use crate::error::ParamError;
 
+/// The smallest polar angle (and 180° minus the largest) an acceptance may have, degrees.
+/// Bhabha and photon pairs grow as 1/θ² along the beam, so σ there is set by 1 − cos θ, which
+/// below 0.1° (1.7 mrad; no detector measures there) carries more than 1e-10 of rounding from
+/// cos θ, and whose t-channel scale |t| ≈ sθ²/4 reaches the electron mass at GeV energies
+/// (common practice, no source).
+pub const MIN_POLAR_DEG: f64 = 0.1;
+
+/// Ok when θ (degrees) lies within [MIN_POLAR_DEG, 180° − MIN_POLAR_DEG].
+pub fn check_polar_deg(name: &'static str, theta_deg: f64) -> Result<f64, ParamError> {
+    if (MIN_POLAR_DEG..=180.0 - MIN_POLAR_DEG).contains(&theta_deg) {
+        Ok(theta_deg)
+    } else {
+        Err(ParamError::new(
+            name,
+            theta_deg,
+            format!(
+                "{MIN_POLAR_DEG} ≤ {name} ≤ {} (degrees; nothing is measured closer to the beam)",
+                180.0 - MIN_POLAR_DEG
+            ),
+        ))
+    }
+}
+
 /// cosθ of the first final particle in [lo, hi], −1 ≤ lo < hi ≤ 1.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct CosRange {
@@ -41,10 +64,11 @@ impl CosRange {
     /// [max(θ_min, 180° − θ_max), min(θ_max, 180° − θ_min)], a range symmetric about 90°.
     ///
     /// # Errors
-    /// Unless 0 < θ_min < θ_max < 180°, or when no back-to-back pair fits (θ_min ≥ 90°).
+    /// Unless both angles lie within [`check_polar_deg`]'s range and θ_min < θ_max, or when
+    /// no back-to-back pair fits (θ_min ≥ 90°).
     pub fn both_inside_deg(theta_min_deg: f64, theta_max_deg: f64) -> Result<Self, ParamError> {
-        ParamError::check_open("theta_min_deg", theta_min_deg, 0.0, 180.0)?;
-        ParamError::check_open("theta_max_deg", theta_max_deg, 0.0, 180.0)?;
+        check_polar_deg("theta_min_deg", theta_min_deg)?;
+        check_polar_deg("theta_max_deg", theta_max_deg)?;
         if theta_max_deg <= theta_min_deg {
             return Err(ParamError::new(
                 "theta_max_deg",
@@ -102,6 +126,10 @@ mod tests {
     fn rejects_bad_ranges() {
         assert!(CosRange::both_inside_deg(40.0, 30.0).is_err());
         assert!(CosRange::both_inside_deg(0.0, 30.0).is_err());
+        // Closer to the beam than 0.1°: an error, not an infinite or rounded-away σ.
+        assert!(CosRange::both_inside_deg(1e-9, 30.0).is_err());
+        assert!(CosRange::both_inside_deg(0.1, 179.9).is_ok());
+        assert!(CosRange::both_inside_deg(10.0, 179.95).is_err());
         assert!(CosRange::both_inside_deg(10.0, 180.0).is_err());
         assert!(CosRange::both_inside_deg(100.0, 170.0).is_err());
         assert!(CosRange::new(-1.5, 0.0).is_err());

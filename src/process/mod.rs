@@ -16,7 +16,7 @@ mod hadrons;
 mod z_exchange;
 
 pub use bhabha::Bhabha;
-pub use cos_range::CosRange;
+pub use cos_range::{CosRange, MIN_POLAR_DEG, check_polar_deg};
 pub use diphoton::Diphoton;
 pub use fermion_pair::FermionPair;
 pub use hadrons::{ConstantR, Hadrons, RRatio};
