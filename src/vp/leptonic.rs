@@ -104,8 +104,9 @@ pub fn r_lepton(s_gev2: f64, m_gev: f64) -> f64 {
 ///
 /// The expansions hold for |q²| ≫ m²: each single-lepton term is multiplied by
 /// w = x²/(x² + 16), x = |q²|/m² (w = ½ at the threshold |q²| = 4m², 1 − 2·10⁻⁶ for the τ
-/// at M_Z), so that they switch off smoothly where they are not valid (where they are of
-/// order a² ≈ 5 × 10⁻⁶ at most). Imaginary part: the two-loop −(α/3)R_ℓ⁽⁰⁾·(3α/4π), the
+/// at M_Z), the mass correction 3(m²/q²)L by x³/(x³ + 64) (also ½ there), so that they
+/// switch off smoothly where they are not valid (where they are of order a² ≈ 5 × 10⁻⁶ at
+/// most) and leave the one loop's Uehling limit −(α/15π)q²/m² for |q²| ≪ m². Imaginary part: the two-loop −(α/3)R_ℓ⁽⁰⁾·(3α/4π), the
 /// O(α) correction to R_ℓ; three-loop imaginary parts (O(α³)) are neglected, as is the
 /// −π²/2 of the timelike continuation of the double-bubble square (4 × 10⁻⁸ at M_Z²).
 pub fn higher_orders(q2_gev2: f64) -> Complex64 {
@@ -123,9 +124,13 @@ pub fn higher_orders(q2_gev2: f64) -> Complex64 {
         let x = aq / m2;
         let w = x * x / (x * x + 16.0);
         let big_l = lq - lm[i];
-        let two = a * a * (0.25 * big_l + ZETA3 - 5.0 / 24.0 + 3.0 / x * big_l);
+        let two = a * a * (0.25 * big_l + ZETA3 - 5.0 / 24.0);
         let three = a * a * a * (quenched_const + big_l / 8.0);
-        re += w * (two + three);
+        // The mass correction 3(m²/q²)L is switched off by w₃ = x³/(x³ + 64) (½ at x = 4
+        // like w), written 3x²/(x³ + 64)·L: with w it fell only like x·L and outgrew the one
+        // loop's x/15 for |q²| ≪ m² (sign flipped at 1e-320 GeV²), and 3/x alone overflows.
+        let mass_correction = a * a * 3.0 / (x + 64.0 / (x * x)) * big_l;
+        re += w * (two + three) + mass_correction;
         if q2_gev2 > 0.0 {
             im -= ALPHA / 3.0 * r_lepton(q2_gev2, m) * 3.0 * ALPHA / (4.0 * PI);
         }
