@@ -11,13 +11,17 @@ pub struct Grid {
     single: bool,
 }
 
+/// The most points a grid may have: 10⁷ (a few GB of output rows at most; the table cards'
+/// row limit is the same). More is a typing slip, not a request.
+pub const MAX_COUNT: i64 = 10_000_000;
+
 #[derive(Debug, Error, Clone, PartialEq)]
 #[non_exhaustive]
 pub enum GridError {
     #[error("'{text}' is not a number or a grid start:stop:count")]
     Syntax { text: String },
     #[error(
-        "grid '{text}' has count {count}; allowed: a whole number ≥ 1 (1 only when start = stop)"
+        "grid '{text}' has count {count}; allowed: a whole number from 1 to {MAX_COUNT} (1 only when start = stop)"
     )]
     Count { text: String, count: i64 },
     #[error("'{text}' is not finite")]
@@ -53,7 +57,7 @@ impl Grid {
                 let count: i64 = count.parse().map_err(|_| GridError::Syntax {
                     text: text.to_string(),
                 })?;
-                if count < 1 || (count == 1 && start != stop) {
+                if !(1..=MAX_COUNT).contains(&count) || (count == 1 && start != stop) {
                     return Err(GridError::Count {
                         text: text.to_string(),
                         count,
@@ -133,6 +137,15 @@ mod tests {
             Err(GridError::NotFinite { .. })
         ));
         assert!(Grid::parse("3:3:1").is_ok());
+        // 10⁸ points would need tens of GB: a clear error instead of running out of memory.
+        assert!(matches!(
+            Grid::parse("2:12:100000000"),
+            Err(GridError::Count { .. })
+        ));
+        assert_eq!(
+            Grid::parse("2:12:10000000").unwrap().points().len(),
+            10_000_000
+        );
     }
 
     #[test]
