@@ -162,6 +162,11 @@ fn bad_inputs_fail_clearly_and_write_nothing() {
         ("3.0,100,1,1.5,10\n", "column efficiency"),
         ("3.0,10,20,0.5,10\n", "column n_bkg"),
         ("", "no data rows"),
+        // Below the card's minimum mass (2.7 GeV) no event passes: said so, not a failed fit.
+        (
+            "2.6,100,1,0.5,10\n2.65,100,1,0.5,10\n",
+            "min_mass_gev = 2.7 is not below sqrt_s_gev = 2.6",
+        ),
     ] {
         let bad = dir.path().join("bad.csv");
         std::fs::write(&bad, format!("{head}{body}")).unwrap();

@@ -263,6 +263,22 @@ pub struct ScanPlan {
     pub vp_variations: Vec<(String, Arc<dyn Polarisation>)>,
 }
 
+impl ScanPlan {
+    /// The spread of a data point (its own, else the card's), once the point is known to be
+    /// observable: the cuts must leave a final state at its energy.
+    ///
+    /// # Errors
+    /// A point at or below the card's minimum mass, or a spread too wide there.
+    pub fn spread_at(&self, p: &ScanPoint) -> Result<f64, ScanError> {
+        self.chain.check_energy(p.sqrt_s_gev).map_err(|e| {
+            ScanError::Model(format!(
+                "data point: {e}; allowed: points above radiation.min_mass_gev"
+            ))
+        })?;
+        p.spread_mev(self.energy_spread_mev)
+    }
+}
+
 /// One corrected point.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct CorrectedPoint {
@@ -313,7 +329,7 @@ pub fn correct_scan(plan: &ScanPlan, data: &[ScanPoint]) -> Result<CorrectedScan
     let energies: Vec<f64> = data.iter().map(|p| p.sqrt_s_gev).collect();
     let spread = data
         .iter()
-        .map(|p| p.spread_mev(plan.energy_spread_mev))
+        .map(|p| plan.spread_at(p))
         .collect::<Result<Vec<f64>, _>>()?;
     let obs: Vec<f64> = data
         .iter()

@@ -269,7 +269,7 @@ pub fn observed_points(plan: &ScanPlan, data: &[ScanPoint]) -> Result<Vec<FitPoi
             let stat = p.n_events.sqrt() / (p.efficiency * l);
             Ok(FitPoint {
                 sqrt_s_gev: p.sqrt_s_gev,
-                energy_spread_mev: p.spread_mev(plan.energy_spread_mev)?,
+                energy_spread_mev: plan.spread_at(p)?,
                 sigma_obs_nb: sigma,
                 sigma_obs_stat_nb: stat.hypot(sigma * dl / l),
                 noise: Noise::Counts {

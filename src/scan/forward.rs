@@ -4,7 +4,7 @@
 
 use super::linalg::Matrix;
 use super::shape::ShapeModel;
-use crate::isr::{Cuts, Isr, Order, Radiated, Scheme, Smeared, visit_spread_nodes};
+use crate::isr::{Cuts, Isr, IsrError, Order, Radiated, Scheme, Smeared, visit_spread_nodes};
 use crate::process::CrossSection;
 use rayon::prelude::*;
 
@@ -50,6 +50,17 @@ impl ForwardChain {
         match self.isr {
             Some(i) => format!("radiator {} ({})", i.scheme().key(), i.scheme().describe()),
             None => "no initial-state radiation".into(),
+        }
+    }
+
+    /// Whether the cuts leave a final state at √s.
+    ///
+    /// # Errors
+    /// A minimum mass at or above √s: no event can pass, so nothing can be corrected there.
+    pub fn check_energy(&self, sqrt_s_gev: f64) -> Result<(), IsrError> {
+        match &self.isr {
+            Some(isr) => isr.cuts().x_limit(sqrt_s_gev * sqrt_s_gev, 0.0).map(|_| ()),
+            None => Ok(()),
         }
     }
 
