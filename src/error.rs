@@ -5,9 +5,26 @@
 
 use thiserror::Error;
 
+/// The highest centre-of-mass energy radnorm takes, GeV (100 TeV: beyond any e⁺e⁻ collider;
+/// the hadronic Π table ends at q² = 1e10 GeV² and the structure functions' scales with it).
+pub const MAX_SQRT_S_GEV: f64 = 1e5;
+
+/// A number as a person would write it back in a message: to 12 significant digits (no
+/// 0.052000000000000005 from arithmetic), plain where that is short, with an exponent for
+/// very large or very small magnitudes (`{}` would print 1e300 as 301 digits).
+pub fn shown(v: f64) -> String {
+    let rounded: f64 = format!("{v:.11e}").parse().unwrap_or(v);
+    let a = rounded.abs();
+    if a != 0.0 && a.is_finite() && !(1e-5..1e15).contains(&a) {
+        format!("{rounded:e}")
+    } else {
+        format!("{rounded}")
+    }
+}
+
 /// A parameter outside its allowed range.
 #[derive(Debug, Error, Clone, PartialEq)]
-#[error("{name} = {value} is not allowed; allowed: {allowed}")]
+#[error("{name} = {} is not allowed; allowed: {allowed}", shown(*value))]
 pub struct ParamError {
     pub name: &'static str,
     pub value: f64,
@@ -32,6 +49,19 @@ impl ParamError {
         }
     }
 
+    /// Ok when 0 < `value` ≤ [`MAX_SQRT_S_GEV`]: a centre-of-mass energy.
+    pub fn check_sqrt_s(name: &'static str, value: f64) -> Result<f64, Self> {
+        if value > 0.0 && value <= MAX_SQRT_S_GEV {
+            Ok(value)
+        } else {
+            Err(Self::new(
+                name,
+                value,
+                format!("0 < {name} ≤ {MAX_SQRT_S_GEV:e} GeV (100 TeV)"),
+            ))
+        }
+    }
+
     /// Ok when `value > 0` and finite.
     pub fn check_positive(name: &'static str, value: f64) -> Result<f64, Self> {
         if value > 0.0 && value.is_finite() {
@@ -39,5 +69,25 @@ impl ParamError {
         } else {
             Err(Self::new(name, value, format!("a finite {name} > 0")))
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn numbers_are_shown_as_written() {
+        assert_eq!(shown(0.01 * 5.2), "0.052");
+        assert_eq!(shown(1e300), "1e300");
+        assert_eq!(shown(-2.5e-9), "-2.5e-9");
+        assert_eq!(shown(3.0), "3");
+        assert_eq!(shown(91.1876), "91.1876");
+        assert_eq!(shown(f64::NAN), "NaN");
+        let e = ParamError::new("x_max", 1e-300, "0 < x_max ≤ 1");
+        assert_eq!(
+            e.to_string(),
+            "x_max = 1e-300 is not allowed; allowed: 0 < x_max ≤ 1"
+        );
     }
 }

@@ -56,4 +56,4 @@ pub mod scan;
 pub mod table;
 pub mod vp;
 
-pub use error::ParamError;
+pub use error::{MAX_SQRT_S_GEV, ParamError, shown};

@@ -382,3 +382,43 @@ fn zero_shifts_are_written_as_zero_not_negative_zero() {
         assert!(!negative_zero, "{format}: {out}");
     }
 }
+
+#[test]
+fn energies_outside_the_model_are_named_by_their_flag() {
+    // Above 100 TeV (the VP tables' end): a range error, not a panic (1e80 GeV had panicked
+    // in a spline of the t-channel VP).
+    let (code, err, _) = lumi(&flags("ee", "1e80", &["--vp", "full"]));
+    assert_eq!(code, Some(2), "{err}");
+    assert!(
+        err.contains("--sqrt-s 1e80") && err.contains("≤ 1e5 GeV"),
+        "{err}"
+    );
+    // Too low for the structure functions (Q² ≤ e·m_e², e·m_e² = 7.098e-7 GeV² with CODATA
+    // 2022 m_e): said of the energy, not of an internal scale.
+    let (code, err, _) = lumi(&flags("gg", "0.0011", &[]));
+    assert_eq!(code, Some(2), "{err}");
+    assert!(
+        err.starts_with("radnorm: error: --sqrt-s 0.0011: sqrt_s_gev = 0.0011 is too low")
+            && err.contains("7.098e-7"),
+        "{err}"
+    );
+}
+
+#[test]
+fn a_beam_energy_uncertainty_beyond_one_percent_is_refused() {
+    // uncertainty.sqrt_s_gev = 5.3 GeV at 5.2 GeV had moved σ_vis to zero energy and given a
+    // beam-energy term of −47311 nb against σ_vis = 34.8 nb.
+    let dir = tempfile::tempdir().unwrap();
+    let card = dir.path().join("lumi.toml");
+    fs::write(
+        &card,
+        CARD.replace("sqrt_s_gev = 0.005", "sqrt_s_gev = 5.3"),
+    )
+    .unwrap();
+    let (code, err, _) = lumi(&["--card", card.to_str().unwrap(), "--sqrt-s", "5.2"]);
+    assert_eq!(code, Some(2), "{err}");
+    assert!(
+        err.contains("uncertainty.sqrt_s_gev = 5.3") && err.contains("0.052 GeV"),
+        "{err}"
+    );
+}

@@ -6,6 +6,7 @@ use rayon::prelude::*;
 
 use super::output::{OutputArgs, Report, Row, emit};
 use super::{flag_error, parse_energy_grid};
+use radnorm::MAX_SQRT_S_GEV;
 use radnorm::process::{
     Angular, Bhabha, ConstantR, CosRange, CrossSection, Diphoton, FermionPair, Hadrons,
     MIN_POLAR_DEG, RRatio, WidthScheme, ZExchange,
@@ -84,16 +85,15 @@ pub struct BornArgs {
     output: OutputArgs,
 }
 
-/// The energies `born` accepts, GeV: beyond them s = √s² or σ ∝ 1/s leaves the range of
-/// a double (σ_ee at √s = 1e-160 GeV overflows; s overflows above √s ≈ 1.3e154 GeV).
-const SQRT_S_RANGE_GEV: (f64, f64) = (1e-100, 1e100);
+/// The lowest energy `born` accepts, GeV: below, σ ∝ 1/s leaves the range of a double
+/// (σ_ee at √s = 1e-160 GeV overflows).
+const MIN_SQRT_S_GEV: f64 = 1e-100;
 
 pub fn run(args: BornArgs) -> Result<()> {
     let grid = parse_energy_grid("--sqrt-s", &args.sqrt_s)?;
-    let (e_lo, e_hi) = SQRT_S_RANGE_GEV;
-    if let Some(bad) = grid.points().iter().find(|&&e| !(e_lo..=e_hi).contains(&e)) {
+    if let Some(bad) = grid.points().iter().find(|&&e| e < MIN_SQRT_S_GEV) {
         bail!(
-            "--sqrt-s {}: {bad:e} is not allowed; allowed: {e_lo:e} ≤ sqrt_s ≤ {e_hi:e} GeV (beyond, s or σ leaves the floating-point range)",
+            "--sqrt-s {}: {bad:e} is not allowed; allowed: {MIN_SQRT_S_GEV:e} ≤ sqrt_s ≤ {MAX_SQRT_S_GEV:e} GeV (below, σ leaves the floating-point range)",
             args.sqrt_s
         );
     }

@@ -9,7 +9,7 @@ use super::output::{OutputArgs, Report, Row, emit};
 use super::parse_energy_grid;
 use radnorm::budget::Correlation;
 use radnorm::lumi::{
-    FinalState, LumiPlan, Monitor, Prediction, RawCard, VisibleError, luminosities, parse_counts,
+    FinalState, LumiPlan, Monitor, Prediction, RawCard, luminosities, parse_counts,
 };
 use radnorm::vp::Polarisation;
 
@@ -199,10 +199,8 @@ pub fn run(args: LumiArgs) -> Result<()> {
                 .par_iter()
                 .map(|&e| monitor.predict(e))
                 .collect::<Result<_, _>>()
-                .map_err(|e| match (&e, &args.sqrt_s) {
-                    (VisibleError::BelowThreshold { .. }, Some(text)) => {
-                        anyhow!("--sqrt-s {text}: {e}")
-                    }
+                .map_err(|e| match (e.energy_gev(), &args.sqrt_s) {
+                    (Some(_), Some(text)) => anyhow!("--sqrt-s {text}: {e}"),
                     _ => anyhow!(e),
                 })?;
             let rows = predictions.iter().map(|p| sigma_row(&plan, p)).collect();
@@ -241,18 +239,16 @@ pub fn run(args: LumiArgs) -> Result<()> {
                 .par_iter()
                 .map(|&e| monitor.predict(e))
                 .collect::<Result<_, _>>()
-                .map_err(|e| match &e {
-                    VisibleError::BelowThreshold { sqrt_s_gev, .. } => {
-                        match runs.iter().find(|r| r.sqrt_s_gev == *sqrt_s_gev) {
-                            Some(r) => anyhow!(
-                                "{}, line {}, field sqrt_s_gev: {e}",
-                                path.display(),
-                                r.line
-                            ),
-                            None => anyhow!(e),
+                .map_err(|e| {
+                    match e
+                        .energy_gev()
+                        .and_then(|w| runs.iter().find(|r| r.sqrt_s_gev == w))
+                    {
+                        Some(r) => {
+                            anyhow!("{}, line {}, field sqrt_s_gev: {e}", path.display(), r.line)
                         }
+                        None => anyhow!(e),
                     }
-                    _ => anyhow!(e),
                 })?;
             let per_run: Vec<&Prediction> = runs
                 .iter()

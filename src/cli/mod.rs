@@ -23,8 +23,8 @@ mod table;
 use anyhow::{Context, Result, anyhow};
 use clap::{Parser, Subcommand};
 
-use radnorm::ParamError;
 use radnorm::numeric::Grid;
+use radnorm::{ParamError, shown};
 
 /// radnorm: Born cross-sections, running α, ISR corrections and luminosity for e⁺e⁻ colliders.
 #[derive(Debug, Parser)]
@@ -87,18 +87,23 @@ pub fn flag_error(e: ParamError) -> anyhow::Error {
     anyhow!(
         "--{} {}: not allowed; allowed: {}",
         e.name.replace('_', "-"),
-        e.value,
+        shown(e.value),
         e.allowed
     )
 }
 
-/// Parse an energy grid (`3.0` or `start:stop:count`) for `flag`; every point > 0.
+/// Parse an energy grid (`3.0` or `start:stop:count`) for `flag`; every point within
+/// 0 < √s ≤ [`MAX_SQRT_S_GEV`].
 pub fn parse_energy_grid(flag: &str, text: &str) -> Result<Grid> {
     let grid = Grid::parse(text).with_context(|| format!("{flag} {text}"))?;
-    if let Some(bad) = grid.points().iter().find(|&&e| e <= 0.0) {
-        return Err(anyhow!(
-            "{flag} {text}: {bad} is not allowed; allowed: energies > 0 GeV"
-        ));
+    for &e in grid.points() {
+        if let Err(e) = ParamError::check_sqrt_s("sqrt_s", e) {
+            return Err(anyhow!(
+                "{flag} {text}: {} is not allowed; allowed: {}",
+                shown(e.value),
+                e.allowed
+            ));
+        }
     }
     Ok(grid)
 }

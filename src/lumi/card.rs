@@ -218,7 +218,7 @@ impl TryFrom<RawCard> for LumiPlan {
             &[("t", Scale::MomentumTransfer), ("s", Scale::S)],
         )?;
         if let Some(e) = raw.sqrt_s_gev {
-            ParamError::check_positive("sqrt_s_gev", e).map_err(|e| CardError::param("", e))?;
+            ParamError::check_sqrt_s("sqrt_s_gev", e).map_err(|e| CardError::param("", e))?;
         }
         let precision = raw.precision.unwrap_or(1e-4);
         ParamError::check_open("precision", precision, 1e-9, 0.1)

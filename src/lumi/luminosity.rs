@@ -23,6 +23,7 @@ use super::visible::{SigmaVis, Visible, VisibleError};
 use crate::budget::{Budget, BudgetError, Correlation, symmetric_shift};
 use crate::constants::ALPHA;
 use crate::vp::Polarisation;
+use crate::{ParamError, shown};
 use std::f64::consts::PI;
 use thiserror::Error;
 
@@ -72,6 +73,10 @@ impl Prediction {
 /// An energy at or below the channel's threshold ([`VisibleError::BelowThreshold`]: σ_vis
 /// is 0 there, no luminosity follows from it); a variation that leaves the valid range (an
 /// edge moved past 0° or 180°, …).
+/// The largest beam-energy uncertainty taken, relative to √s: machines know their energy
+/// to 10⁻⁴–10⁻³ (from memory); at √s itself the budget's σ_vis(√s − δ) would be at zero energy.
+const MAX_ENERGY_UNC_REL: f64 = 0.01;
+
 pub fn predict<'a>(
     visible: &Visible<'a>,
     vp: Option<&'a dyn Polarisation>,
@@ -124,6 +129,12 @@ pub fn predict<'a>(
         });
     }
     let de = unc.sqrt_s_gev;
+    if de > MAX_ENERGY_UNC_REL * sqrt_s_gev {
+        return Err(VisibleError::EnergyUncertaintyTooLarge {
+            unc_gev: de,
+            sqrt_s_gev,
+        });
+    }
     let energy = if de > 0.0 {
         symmetric_shift(
             at(visible, (sqrt_s_gev + de).powi(2))?,
@@ -314,11 +325,11 @@ pub fn parse_counts(file: &str, text: &str) -> Result<Vec<Run>, CountsError> {
             ));
         }
         let sqrt_s_gev = real(1)?;
-        if sqrt_s_gev <= 0.0 {
+        if let Err(e) = ParamError::check_sqrt_s("sqrt_s_gev", sqrt_s_gev) {
             return Err(err(
                 line,
                 "sqrt_s_gev",
-                format!("{sqrt_s_gev} is not allowed; allowed: > 0 GeV"),
+                format!("{} is not allowed; allowed: {}", shown(e.value), e.allowed),
             ));
         }
         let (n, n_bkg) = (count(2)?, count(3)?);

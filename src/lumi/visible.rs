@@ -39,7 +39,7 @@ use super::acceptance::{Acceptance, EMPTY, FinalState};
 use super::pieces::{Piece, UnitRule, changes, pieces};
 use super::structure_function::StructureFunction;
 use crate::constants::{M_E_GEV, M_MU_GEV};
-use crate::error::ParamError;
+use crate::error::{ParamError, shown};
 use crate::numeric::{CubicSpline, GaussLegendre, Tolerance, integrate};
 use crate::process::{
     Angular, Bhabha, CosRange, Diphoton, Feature, FermionPair, WidthScheme, ZExchange,
@@ -133,6 +133,34 @@ pub enum VisibleError {
         sqrt_s_gev: f64,
         threshold_gev: f64,
     },
+    #[error(
+        "sqrt_s_gev = {} is too low for the leading-log structure functions: their scale (|t| or s, as the card's scale says) is Q² = {} GeV² here; allowed: {allowed} (a higher energy or wider angles)",
+        shown(*sqrt_s_gev),
+        shown(*q2_gev2)
+    )]
+    ScaleTooLow {
+        sqrt_s_gev: f64,
+        q2_gev2: f64,
+        allowed: String,
+    },
+    #[error(
+        "uncertainty.sqrt_s_gev = {} is not allowed at sqrt_s_gev = {sqrt_s_gev}; allowed: ≤ 1% of sqrt_s ({} GeV): an uncertainty of the beam energy, not a range",
+        shown(*unc_gev),
+        shown(0.01 * sqrt_s_gev)
+    )]
+    EnergyUncertaintyTooLarge { unc_gev: f64, sqrt_s_gev: f64 },
+}
+
+impl VisibleError {
+    /// The energy that cannot be evaluated, when the error is about the energy itself (so
+    /// that a caller can name the flag or the file line that gave it).
+    pub fn energy_gev(&self) -> Option<f64> {
+        match self {
+            VisibleError::BelowThreshold { sqrt_s_gev, .. }
+            | VisibleError::ScaleTooLow { sqrt_s_gev, .. } => Some(*sqrt_s_gev),
+            _ => None,
+        }
+    }
 }
 
 /// How σ_vis is computed: radiation on or off, the scale, the precision, Z exchange.
@@ -746,9 +774,16 @@ impl<'a> Visible<'a> {
                 rule_points: 0,
             });
         }
-        let isr = StructureFunction::new(q2, M_E_GEV)?;
+        let scale_error = |e: ParamError| VisibleError::ScaleTooLow {
+            sqrt_s_gev: s.sqrt(),
+            q2_gev2: q2,
+            allowed: e.allowed,
+        };
+        let isr = StructureFunction::new(q2, M_E_GEV).map_err(scale_error)?;
         let fsr = match (self.acceptance.final_state(), self.channel.final_mass_gev()) {
-            (FinalState::BareTrack, Some(m)) => Some(StructureFunction::new(q2, m)?),
+            (FinalState::BareTrack, Some(m)) => {
+                Some(StructureFunction::new(q2, m).map_err(scale_error)?)
+            }
             _ => None,
         };
         let point = Point {

@@ -16,6 +16,7 @@
 
 use super::ScanError;
 use crate::isr::max_spread_mev;
+use crate::{ParamError, shown};
 use std::path::Path;
 
 /// How the luminosity of a point is given.
@@ -176,8 +177,11 @@ pub fn parse_scan(text: &str, file: &str) -> Result<Vec<ScanPoint>, ScanError> {
             Ok((nv, bv, ev))
         };
         let sqrt_s_gev = value("sqrt_s_gev")?;
-        if sqrt_s_gev <= 0.0 {
-            return Err(bad("sqrt_s_gev", format!("{sqrt_s_gev}; allowed: > 0")));
+        if let Err(e) = ParamError::check_sqrt_s("sqrt_s_gev", sqrt_s_gev) {
+            return Err(bad(
+                "sqrt_s_gev",
+                format!("{}; allowed: {}", shown(e.value), e.allowed),
+            ));
         }
         if let Some(prev) = points.last()
             && sqrt_s_gev <= prev.sqrt_s_gev

@@ -35,6 +35,7 @@ use crate::numeric::Grid;
 use crate::process::{ConstantR, CrossSection, FermionPair, Hadrons, RRatio};
 use crate::rmodel::{RModel, Region};
 use crate::vp::{Vp, VpChoice};
+use crate::{ParamError, shown};
 use rayon::prelude::*;
 use serde::Deserialize;
 use std::sync::Arc;
@@ -179,8 +180,13 @@ fn energies(raw: &RawEnergies) -> Result<Vec<f64>, TablePlanError> {
             "no energies; allowed: at least one energy > 0 GeV",
         ));
     }
-    if let Some(bad) = points.iter().find(|e| !(**e > 0.0 && e.is_finite())) {
-        return Err(err(KEY, format!("{bad}; allowed: finite energies > 0 GeV")));
+    for &e in &points {
+        if let Err(e) = ParamError::check_sqrt_s("sqrt_s_gev", e) {
+            return Err(err(
+                KEY,
+                format!("{}; allowed: {}", shown(e.value), e.allowed),
+            ));
+        }
     }
     Ok(points)
 }
