@@ -210,6 +210,38 @@ fn negative_values_reach_our_validation() {
         &["--process", "hadrons", "--sqrt-s", "3", "--r-const", "-1"],
         "--r-const -1",
     );
+    // Above any hadronic R (1e308 had overflowed σ into an internal error).
+    born_fails(
+        &[
+            "--process",
+            "hadrons",
+            "--sqrt-s",
+            "3",
+            "--r-const",
+            "1e308",
+        ],
+        "--r-const 1e308: not allowed; allowed: 0 < r_const ≤ 1e6",
+    );
+    // Flags that do not apply to the process are refused, not silently ignored.
+    born_fails(
+        &["--process", "mumu", "--sqrt-s", "3", "--r-const", "5"],
+        "--r-const: not for --process mumu",
+    );
+    born_fails(
+        &["--process", "hadrons", "--sqrt-s", "3", "--coulomb"],
+        "--coulomb: not for --process hadrons",
+    );
+    born_fails(
+        &[
+            "--process",
+            "hadrons",
+            "--sqrt-s",
+            "3",
+            "--theta-min-deg",
+            "30",
+        ],
+        "--theta-min-deg/--theta-max-deg: not for --process hadrons",
+    );
 }
 
 #[test]

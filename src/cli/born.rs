@@ -97,6 +97,27 @@ pub fn run(args: BornArgs) -> Result<()> {
             args.sqrt_s
         );
     }
+    // Flags that do not apply to the process are errors, not silently ignored.
+    let lepton_pair = matches!(args.process, ProcessName::Mumu | ProcessName::Tautau);
+    if args.coulomb && !lepton_pair {
+        bail!(
+            "--coulomb: not for --process {}; allowed: with --process mumu or tautau (a lepton pair at threshold)",
+            args.process.key()
+        );
+    }
+    if args.r_const.is_some() && args.process != ProcessName::Hadrons {
+        bail!(
+            "--r-const: not for --process {}; allowed: with --process hadrons only",
+            args.process.key()
+        );
+    }
+    if args.process == ProcessName::Hadrons
+        && (args.theta_min_deg.is_some() || args.theta_max_deg.is_some())
+    {
+        bail!(
+            "--theta-min-deg/--theta-max-deg: not for --process hadrons (an inclusive total cross-section has no final-state angle); allowed: with mumu, tautau, ee, gg"
+        );
+    }
     if let Some(c) = args.cos_theta {
         // dσ/dcosθ is infinite at the poles of the t-channel photon (ee: cosθ = 1) and of
         // the t- and u-channel electron (gg: cosθ = ±1).
@@ -186,11 +207,9 @@ pub fn run(args: BornArgs) -> Result<()> {
         ProcessName::Gg => Box::new(Diphoton::new(range)),
         ProcessName::Hadrons => match args.r_const {
             Some(r) => {
-                if !(r >= 0.0 && r.is_finite()) {
-                    bail!("--r-const {r}: not allowed; allowed: a finite R ≥ 0");
-                }
-                notes.push(format!("R model: {}", ConstantR(r).describe()));
-                Box::new(Hadrons::new(ConstantR(r)))
+                let r = ConstantR::new("r_const", r).map_err(flag_error)?;
+                notes.push(format!("R model: {}", r.describe()));
+                Box::new(Hadrons::new(r))
             }
             None => {
                 let model = RModel::standard();

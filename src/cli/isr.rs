@@ -152,11 +152,11 @@ pub fn run(args: IsrArgs) -> Result<()> {
         IsrProcess::Mumu => Box::new(FermionPair::muon()),
         IsrProcess::Tautau => Box::new(FermionPair::tau()),
         IsrProcess::Hadrons => match args.r_const {
-            Some(r) if r >= 0.0 && r.is_finite() => {
-                notes.push(format!("R model: {}", ConstantR(r).describe()));
-                Box::new(Hadrons::new(ConstantR(r)))
+            Some(r) => {
+                let r = ConstantR::new("r_const", r).map_err(flag_error)?;
+                notes.push(format!("R model: {}", r.describe()));
+                Box::new(Hadrons::new(r))
             }
-            Some(r) => bail!("--r-const {r}: not allowed; allowed: a finite R ≥ 0"),
             None => {
                 let model = RModel::standard();
                 notes.push(format!("R model: {}", model.describe()));

@@ -1,6 +1,7 @@
 //! e⁺e⁻ → hadrons at Born level: σ = σ_pt(s)·R(s) with R from a pluggable model.
 
 use super::{Angular, CrossSection, Feature};
+use crate::ParamError;
 use crate::constants::sigma_point_nb;
 
 /// A model of the R ratio σ(e⁺e⁻ → hadrons)/σ_pt, bare (without vacuum polarisation).
@@ -25,6 +26,24 @@ pub trait RRatio: Sync + Send {
 /// A constant R above the two-pion threshold (a toy or a quick estimate).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct ConstantR(pub f64);
+
+/// The largest R taken, anywhere: R peaks near 10⁴ on the J/ψ (12π B_ee B_had/M² against
+/// σ_μμ; from memory), so 10⁶ is above any hadronic cross-section and below any overflow.
+pub const MAX_R: f64 = 1e6;
+
+impl ConstantR {
+    /// A constant R for the parameter `name` (flag or card key).
+    ///
+    /// # Errors
+    /// Unless 0 < R ≤ [`MAX_R`].
+    pub fn new(name: &'static str, r: f64) -> Result<Self, ParamError> {
+        if r > 0.0 && r <= MAX_R {
+            Ok(ConstantR(r))
+        } else {
+            Err(ParamError::new(name, r, format!("0 < {name} ≤ {MAX_R:e}")))
+        }
+    }
+}
 
 impl RRatio for ConstantR {
     fn r(&self, s_gev2: f64) -> f64 {

@@ -19,7 +19,7 @@ pub use bhabha::Bhabha;
 pub use cos_range::{CosRange, MIN_POLAR_DEG, check_polar_deg};
 pub use diphoton::Diphoton;
 pub use fermion_pair::FermionPair;
-pub use hadrons::{ConstantR, Hadrons, RRatio};
+pub use hadrons::{ConstantR, Hadrons, MAX_R, RRatio};
 pub use z_exchange::{WidthScheme, ZExchange};
 
 /// A structure in σ(s) that integrators over s must split at.

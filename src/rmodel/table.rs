@@ -6,6 +6,7 @@
 //! in √s. `r_syst` is taken as fully correlated over the table, `r_stat` as independent
 //! point to point.
 
+use crate::process::MAX_R;
 use thiserror::Error;
 
 /// Where in the file a problem is (1-based line and column).
@@ -117,7 +118,11 @@ impl RTable {
                     key: KEYS[c],
                     text: field.to_string(),
                 })?;
-                let ok = value.is_finite() && if c == 0 { value > 0.0 } else { value >= 0.0 };
+                let ok = if c == 0 {
+                    value > 0.0 && value.is_finite()
+                } else {
+                    (0.0..=MAX_R).contains(&value)
+                };
                 if !ok {
                     return Err(TableError::OutOfRange {
                         source_name: name(),
@@ -128,7 +133,7 @@ impl RTable {
                         allowed: if c == 0 {
                             "a finite energy > 0 GeV"
                         } else {
-                            "a finite value ≥ 0"
+                            "0 ≤ value ≤ 1e6 (above any hadronic R)"
                         },
                     });
                 }

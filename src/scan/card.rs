@@ -14,7 +14,7 @@
 //! compare = ["exp1"]        # alternative radiators (kf2 | exp1 | sfll), a budget source
 //!
 //! [vp]
-//! model = "full"            # none | leptonic | full (full: region budget from the R model)
+//! model = "full"            # none | lep (or leptonic) | full (full: region budget from the R model)
 //!
 //! [beam]
 //! energy_unc_mev = 0.1          # centre-of-mass energy uncertainty, common to all points
@@ -95,6 +95,7 @@ use crate::budget::Correlation;
 use crate::isr::{Cuts, Scheme};
 use crate::process::{ConstantR, CrossSection, FermionPair, Hadrons};
 use crate::rmodel::Region;
+use crate::shown;
 use crate::vp::{Dressed, Polarisation, Vp, VpChoice};
 use serde::Deserialize;
 use std::sync::Arc;
@@ -532,7 +533,7 @@ pub fn vp_by_name(key: &str, name: &str) -> Result<VpChoice, ScanError> {
     VpChoice::from_key(name).ok_or_else(|| {
         card_err(
             key,
-            format!("unknown vp model '{name}'; allowed: none, leptonic, full"),
+            format!("unknown vp model '{name}'; allowed: none, lep (or leptonic), full"),
         )
     })
 }
@@ -562,7 +563,7 @@ pub fn born_by_name(
     name: &str,
     r_ratio: Option<f64>,
 ) -> Result<Box<dyn CrossSection + Send>, ScanError> {
-    if r_ratio.is_some() && name != "hadrons" {
+    if r_ratio.is_some() && matches!(name, "mumu" | "tautau") {
         return Err(card_err(
             "process.r_ratio",
             "only for final_state = \"hadrons\"",
@@ -572,14 +573,13 @@ pub fn born_by_name(
         "mumu" => Ok(Box::new(FermionPair::muon())),
         "tautau" => Ok(Box::new(FermionPair::tau())),
         "hadrons" => {
-            let r = r_ratio.unwrap_or(1.0);
-            if !(r > 0.0 && r.is_finite()) {
-                return Err(card_err(
+            let r = ConstantR::new("r_ratio", r_ratio.unwrap_or(1.0)).map_err(|e| {
+                card_err(
                     "process.r_ratio",
-                    format!("{r}; allowed: a finite R > 0"),
-                ));
-            }
-            Ok(Box::new(Hadrons::new(ConstantR(r))))
+                    format!("{}; allowed: {}", shown(e.value), e.allowed),
+                )
+            })?;
+            Ok(Box::new(Hadrons::new(r)))
         }
         other => Err(card_err(
             key,
@@ -589,6 +589,9 @@ pub fn born_by_name(
 }
 
 /// `value` for `key` when in [lo, hi] (inclusive as flagged), else a card error.
+/// The narrowest template resonance, GeV.
+const MIN_WIDTH_GEV: f64 = 1e-6;
+
 fn in_range(key: &str, value: f64, lo: f64, hi: f64, lo_open: bool) -> Result<f64, ScanError> {
     let ok = value.is_finite() && value <= hi && if lo_open { value > lo } else { value >= lo };
     if ok {
@@ -634,6 +637,12 @@ impl TryFrom<RawScanCard> for ScanPlan {
         let mut alternative_radiators = Vec::new();
         for n in &raw.radiation.compare {
             match radiator_by_name("radiation.compare", n)? {
+                Some(s) if alternative_radiators.contains(&s) => {
+                    return Err(card_err(
+                        "radiation.compare",
+                        format!("'{n}' is given twice; allowed: each scheme once"),
+                    ));
+                }
                 Some(s) if Some(s) != scheme => alternative_radiators.push(s),
                 _ => {
                     return Err(card_err(
@@ -657,7 +666,15 @@ impl TryFrom<RawScanCard> for ScanPlan {
         for (i, r) in raw.resonance.iter().enumerate() {
             let key = |k: &str| format!("resonance[{i}].{k}");
             in_range(&key("mass_gev"), r.mass_gev, 0.0, 1e4, true)?;
-            in_range(&key("width_gev"), r.width_gev, 0.0, r.mass_gev, true)?;
+            // 1 keV: below every vector meson's width (Υ(1S): 54 keV, PDG 2024; from memory);
+            // 1e-300 GeV had made the line shape NaN.
+            in_range(
+                &key("width_gev"),
+                r.width_gev,
+                MIN_WIDTH_GEV,
+                r.mass_gev,
+                false,
+            )?;
             resonances.push(TemplateResonance {
                 name: r.name.clone(),
                 mass_gev: r.mass_gev,
@@ -762,6 +779,23 @@ mod tests {
             (
                 "[process]\nfinal_state = \"mumu\"\nr_ratio = 2\n",
                 "process.r_ratio",
+            ),
+            // An unknown final state is named as such, even beside an r_ratio.
+            (
+                "[process]\nfinal_state = \"quarks\"\nr_ratio = 2\n",
+                "process.final_state",
+            ),
+            (
+                "[process]\nfinal_state = \"hadrons\"\nr_ratio = 1e308\n",
+                "process.r_ratio",
+            ),
+            (
+                "[process]\nfinal_state = \"mumu\"\n[radiation]\ncompare = [\"exp1\", \"exp1\"]\n",
+                "radiation.compare",
+            ),
+            (
+                "[process]\nfinal_state = \"mumu\"\n[[resonance]]\nname = \"R\"\nmass_gev = 3.0\nwidth_gev = 1e-300\n",
+                "resonance[0].width_gev",
             ),
             (
                 "[process]\nfinal_state = \"mumu\"\n[radiation]\nx_max = 1.5\n",

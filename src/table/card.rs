@@ -13,7 +13,7 @@
 //! radiator = "kf2"                # kf2 | exp1 | sfll (default kf2)
 //!
 //! [vp]
-//! model = "full"                  # none | leptonic | full (default full)
+//! model = "full"                  # none | lep (or leptonic) | full (default full)
 //!
 //! [[cut]]                         # cut sets (default: one set "open", the kinematic limit)
 //! name = "x50"                    # lower-case letters, digits, _ ; a column value
@@ -425,9 +425,12 @@ impl TryFrom<RawTableCard> for TablePlan {
     fn try_from(raw: RawTableCard) -> Result<Self, TablePlanError> {
         let energies_gev = energies(&raw.grid.sqrt_s_gev)?;
         if let Some(r) = raw.grid.r_ratio
-            && !(r > 0.0 && r.is_finite())
+            && let Err(e) = ConstantR::new("r_ratio", r)
         {
-            return Err(err("grid.r_ratio", format!("{r}; allowed: a finite R > 0")));
+            return Err(err(
+                "grid.r_ratio",
+                format!("{}; allowed: {}", shown(e.value), e.allowed),
+            ));
         }
         let names = raw
             .grid
@@ -463,7 +466,7 @@ impl TryFrom<RawTableCard> for TablePlan {
         let vp_choice = VpChoice::from_key(vp_name).ok_or_else(|| {
             err(
                 "vp.model",
-                format!("unknown model '{vp_name}'; allowed: none, leptonic, full"),
+                format!("unknown model '{vp_name}'; allowed: none, lep (or leptonic), full"),
             )
         })?;
 

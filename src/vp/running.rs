@@ -29,8 +29,12 @@ pub enum VpChoice {
 }
 
 impl VpChoice {
-    /// The choice named by its [`Self::key`] (`none`, `leptonic`, `full`).
+    /// The choice named by its [`Self::key`] (`none`, `leptonic`, `full`); `lep`, as on the
+    /// command line, also names the leptonic one.
     pub fn from_key(key: &str) -> Option<Self> {
+        if key == "lep" {
+            return Some(VpChoice::Leptonic);
+        }
         [VpChoice::None, VpChoice::Leptonic, VpChoice::Full]
             .into_iter()
             .find(|c| c.key() == key)
@@ -418,5 +422,20 @@ impl Polarisation for Vp {
             }
             _ => "no vacuum polarisation".into(),
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn choices_are_named_as_on_the_command_line_too() {
+        // The command line says `lep`; the cards said `leptonic` only and refused `lep`.
+        assert_eq!(VpChoice::from_key("lep"), Some(VpChoice::Leptonic));
+        for c in [VpChoice::None, VpChoice::Leptonic, VpChoice::Full] {
+            assert_eq!(VpChoice::from_key(c.key()), Some(c));
+        }
+        assert_eq!(VpChoice::from_key("hadronic"), None);
     }
 }
