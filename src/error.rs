@@ -9,6 +9,15 @@ use thiserror::Error;
 /// the hadronic Π table ends at q² = 1e10 GeV² and the structure functions' scales with it).
 pub const MAX_SQRT_S_GEV: f64 = 1e5;
 
+/// The smallest selection efficiency taken (a prescale included): below, N/(εσ) and its
+/// uncertainties leave any sensible range (1e-160 had overflowed the budget; common
+/// practice, no source).
+pub const MIN_EFFICIENCY: f64 = 1e-6;
+
+/// The largest event count taken: 2⁵³, beyond which a double no longer holds every whole
+/// number.
+pub const MAX_COUNT: f64 = 9_007_199_254_740_992.0;
+
 /// A number as a person would write it back in a message: to 12 significant digits (no
 /// 0.052000000000000005 from arithmetic), plain where that is short, with an exponent for
 /// very large or very small magnitudes (`{}` would print 1e300 as 301 digits).

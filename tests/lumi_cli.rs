@@ -115,6 +115,11 @@ fn bad_input_names_file_line_field_and_writes_nothing() {
         ),
         ("r1,10.58,100,101,0.9\n", "field n_bhabha_bkg"),
         ("r1,10.58,100,1,1.5\n", "field bhabha_efficiency"),
+        // Below 1e-6 (1e-160 had overflowed the luminosity's systematic term).
+        (
+            "r1,10.58,100,1,1e-160\n",
+            "field bhabha_efficiency: 1e-160 is not allowed",
+        ),
         ("r1,10.58,-100,1,0.9\n", "field n_bhabha"),
     ];
     for (body, needle) in cases {

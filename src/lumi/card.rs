@@ -26,7 +26,7 @@
 
 use super::acceptance::{Acceptance, FinalState, PolarRange};
 use super::visible::{Channel, Scale, Settings};
-use crate::error::ParamError;
+use crate::error::{ParamError, shown};
 use crate::vp::VpChoice;
 use serde::Deserialize;
 use thiserror::Error;
@@ -103,7 +103,7 @@ impl CardError {
         };
         CardError::invalid(
             &key,
-            format!("{} is not allowed; allowed: {}", e.value, e.allowed),
+            format!("{} is not allowed; allowed: {}", shown(e.value), e.allowed),
         )
     }
 }
@@ -285,7 +285,9 @@ impl TryFrom<RawCard> for LumiPlan {
                     "uncertainty.theta_edge_deg",
                     format!(
                         "{d}: an edge moved by it gives {} = {}, where the allowed is {}",
-                        e.name, e.value, e.allowed
+                        e.name,
+                        shown(e.value),
+                        e.allowed
                     ),
                 ));
             }
@@ -347,6 +349,14 @@ theta_edge_deg = 0.01
         assert!(e.to_string().starts_with("acceptance.e_min_frac"), "{e}");
         // Closer to the beam than 0.1° (σ_Bhabha ∝ 1/θ² there; 1e-9° had overflowed a
         // table's size), and an edge uncertainty that would move an edge there.
+        // An acollinearity cut tighter than 1e-3° (σ_vis stalls at rounding level far below).
+        let bad = CARD.replace("acol_max_deg = 10.0", "acol_max_deg = 1e-300");
+        let e = LumiPlan::try_from(RawCard::parse(&bad).unwrap()).unwrap_err();
+        assert!(
+            e.to_string()
+                .starts_with("acceptance.acol_max_deg: 1e-300 is not allowed"),
+            "{e}"
+        );
         let bad = CARD.replace("theta_min_deg = 40.0", "theta_min_deg = 1e-9");
         let e = LumiPlan::try_from(RawCard::parse(&bad).unwrap()).unwrap_err();
         assert!(e.to_string().starts_with("acceptance.theta_min_deg"), "{e}");

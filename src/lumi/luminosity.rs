@@ -23,7 +23,7 @@ use super::visible::{SigmaVis, Visible, VisibleError};
 use crate::budget::{Budget, BudgetError, Correlation, symmetric_shift};
 use crate::constants::ALPHA;
 use crate::vp::Polarisation;
-use crate::{ParamError, shown};
+use crate::{MIN_EFFICIENCY, ParamError, shown};
 use std::f64::consts::PI;
 use thiserror::Error;
 
@@ -341,11 +341,14 @@ pub fn parse_counts(file: &str, text: &str) -> Result<Vec<Run>, CountsError> {
             ));
         }
         let efficiency = real(4)?;
-        if !(efficiency > 0.0 && efficiency <= 1.0) {
+        if !(MIN_EFFICIENCY..=1.0).contains(&efficiency) {
             return Err(err(
                 line,
                 "bhabha_efficiency",
-                format!("{efficiency} is not allowed; allowed: 0 < bhabha_efficiency ≤ 1"),
+                format!(
+                    "{} is not allowed; allowed: {MIN_EFFICIENCY:e} ≤ bhabha_efficiency ≤ 1",
+                    shown(efficiency)
+                ),
             ));
         }
         runs.push(Run {

@@ -7,6 +7,7 @@
 //! point to point.
 
 use crate::process::MAX_R;
+use crate::shown;
 use thiserror::Error;
 
 /// Where in the file a problem is (1-based line and column).
@@ -38,7 +39,7 @@ pub enum TableError {
         text: String,
     },
     #[error(
-        "{source_name}: line {line}, column {column} ({key}): {value} is not allowed; allowed: {allowed}"
+        "{source_name}: line {line}, column {column} ({key}): {} is not allowed; allowed: {allowed}", shown(*value)
     )]
     OutOfRange {
         source_name: String,

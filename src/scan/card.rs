@@ -600,7 +600,7 @@ fn in_range(key: &str, value: f64, lo: f64, hi: f64, lo_open: bool) -> Result<f6
         let op = if lo_open { "<" } else { "≤" };
         Err(card_err(
             key,
-            format!("{value}; allowed: {lo} {op} {key} ≤ {hi}"),
+            format!("{}; allowed: {lo} {op} {key} ≤ {hi}", shown(value)),
         ))
     }
 }

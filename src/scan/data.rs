@@ -4,10 +4,10 @@
 //!
 //! | column | meaning | allowed |
 //! |---|---|---|
-//! | `sqrt_s_gev` | centre-of-mass energy of the point, GeV | > 0, strictly increasing down the file |
-//! | `n_events` | selected signal-candidate events | whole number ≥ 0 |
+//! | `sqrt_s_gev` | centre-of-mass energy of the point, GeV | 0 < √s ≤ 10⁵, strictly increasing down the file |
+//! | `n_events` | selected signal-candidate events | whole number 0 to 2⁵³ |
 //! | `n_bkg` | expected background among them (an estimate, may be fractional) | 0 ≤ `n_bkg` < `n_events` |
-//! | `efficiency` | signal selection efficiency × acceptance | 0 < ε ≤ 1 |
+//! | `efficiency` | signal selection efficiency × acceptance | 10⁻⁶ ≤ ε ≤ 1 |
 //! | `luminosity_nb_inv` | integrated luminosity, nb⁻¹ | > 0 |
 //! | `n_bhabha`, `n_bhabha_bkg`, `bhabha_efficiency` | luminosity-monitor counts instead of `luminosity_nb_inv` | as for the signal |
 //! | `energy_spread_mev` | optional: the centre-of-mass energy spread σ_W of this point, MeV | 0 to √s/8 |
@@ -16,7 +16,7 @@
 
 use super::ScanError;
 use crate::isr::max_spread_mev;
-use crate::{ParamError, shown};
+use crate::{MAX_COUNT, MIN_EFFICIENCY, ParamError, shown};
 use std::path::Path;
 
 /// How the luminosity of a point is given.
@@ -159,8 +159,11 @@ pub fn parse_scan(text: &str, file: &str) -> Result<Vec<ScanPoint>, ScanError> {
         };
         let counts = |n: &str, b: &str, e: &str| -> Result<(f64, f64, f64), ScanError> {
             let (nv, bv, ev) = (value(n)?, value(b)?, value(e)?);
-            if nv < 0.0 || nv.fract() != 0.0 {
-                return Err(bad(n, format!("{nv}; allowed: a whole number ≥ 0")));
+            if !(0.0..=MAX_COUNT).contains(&nv) || nv.fract() != 0.0 {
+                return Err(bad(
+                    n,
+                    format!("{}; allowed: a whole number from 0 to 2^53", shown(nv)),
+                ));
             }
             if !(bv >= 0.0 && bv < nv) {
                 return Err(bad(
@@ -171,8 +174,11 @@ pub fn parse_scan(text: &str, file: &str) -> Result<Vec<ScanPoint>, ScanError> {
                     ),
                 ));
             }
-            if !(ev > 0.0 && ev <= 1.0) {
-                return Err(bad(e, format!("{ev}; allowed: 0 < {e} ≤ 1")));
+            if !(MIN_EFFICIENCY..=1.0).contains(&ev) {
+                return Err(bad(
+                    e,
+                    format!("{}; allowed: {MIN_EFFICIENCY:e} ≤ {e} ≤ 1", shown(ev)),
+                ));
             }
             Ok((nv, bv, ev))
         };
@@ -313,6 +319,9 @@ mod tests {
             ("3.0,10.5,1,0.5,10\n", "column n_events"),
             ("3.0,x,1,0.5,10\n", "column n_events"),
             ("3.0,10,1,0.5,nan\n", "column luminosity_nb_inv"),
+            // Beyond 2^53 counts are not whole numbers any more; efficiencies below 1e-6.
+            ("3.0,1e300,1,0.5,10\n", "column n_events"),
+            ("3.0,100,1,1e-9,10\n", "column efficiency"),
         ];
         for (body, want) in cases {
             let err = parse_scan(&format!("{HEAD}{body}"), "s.csv")

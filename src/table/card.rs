@@ -275,7 +275,10 @@ fn cut_set(i: usize, raw: &RawCut) -> Result<CutSet, TablePlanError> {
     let mut cuts = Cuts::NONE;
     let mut words = Vec::new();
     let param = |k: &str, e: crate::ParamError| {
-        err(&key(k), format!("{}; allowed: {}", e.value, e.allowed))
+        err(
+            &key(k),
+            format!("{}; allowed: {}", shown(e.value), e.allowed),
+        )
     };
     if let Some(x) = raw.x_max {
         cuts = cuts.with_x_max(x).map_err(|e| param("x_max", e))?;
