@@ -77,9 +77,10 @@ pub fn unfold(
             if !(one_plus_delta > 0.0 && one_plus_delta.is_finite()) {
                 return Err(ScanError::Model(format!(
                     "at sqrt_s_gev = {} the correction factor 1+delta = {one_plus_delta} is not \
-                     positive (iteration {iteration}); the line shape through the points \
-                     cannot describe the data",
-                    model.sqrt_s_gev()[i]
+                     a positive finite number (iteration {iteration}); the line shape through \
+                     the points cannot describe the data{}",
+                    model.sqrt_s_gev()[i],
+                    largest_step(model.sqrt_s_gev(), sigma_obs_nb)
                 )));
             }
             let v = sigma_obs_nb[i] / one_plus_delta;
@@ -105,4 +106,37 @@ pub fn unfold(
         max_change: last_change,
         tolerance: settings.tolerance,
     })
+}
+
+/// Where neighbouring observed cross-sections differ most, as a hint for a diverging
+/// iteration (an outlier point — a wrong efficiency or luminosity — shows as a large step).
+fn largest_step(sqrt_s_gev: &[f64], sigma_obs_nb: &[f64]) -> String {
+    let step = |k: usize| (sigma_obs_nb[k + 1] / sigma_obs_nb[k]).ln().abs();
+    (0..sigma_obs_nb.len().saturating_sub(1))
+        .filter(|&k| step(k).is_finite())
+        .max_by(|&a, &b| step(a).total_cmp(&step(b)))
+        .map_or(String::new(), |k| {
+            format!(
+                " (the largest step between neighbouring points: sigma_obs changes by a factor {:.3} from sqrt_s_gev = {} to {}; an outlier?)",
+                sigma_obs_nb[k + 1] / sigma_obs_nb[k],
+                sqrt_s_gev[k],
+                sqrt_s_gev[k + 1]
+            )
+        })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_hint_points_at_the_outlier() {
+        // A point 700× too high (an efficiency of 0.001 for 0.7) next to a resonance's
+        // factor-of-3 rise: the hint names the outlier's step.
+        let e = [5.06, 5.08, 5.10, 5.12];
+        let sigma = [7000.0, 10.0, 30.0, 12.0];
+        let hint = largest_step(&e, &sigma);
+        assert!(hint.contains("from sqrt_s_gev = 5.06 to 5.08"), "{hint}");
+        assert_eq!(largest_step(&[5.0], &[1.0]), "");
+    }
 }
