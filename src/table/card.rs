@@ -188,6 +188,14 @@ fn energies(raw: &RawEnergies) -> Result<Vec<f64>, TablePlanError> {
             ));
         }
     }
+    let mut sorted = points.clone();
+    sorted.sort_by(f64::total_cmp);
+    if let Some(w) = sorted.windows(2).find(|w| w[0] == w[1]) {
+        return Err(err(
+            KEY,
+            format!("{} is listed twice; allowed: each energy once", shown(w[0])),
+        ));
+    }
     Ok(points)
 }
 
@@ -538,6 +546,7 @@ mod tests {
             ("[grid]\nsqrt_s_gev = \"3:1:0\"\n", "grid.sqrt_s_gev"),
             ("[grid]\nsqrt_s_gev = -1.0\n", "grid.sqrt_s_gev"),
             ("[grid]\nsqrt_s_gev = []\n", "grid.sqrt_s_gev"),
+            ("[grid]\nsqrt_s_gev = [5.0, 5.0]\n", "grid.sqrt_s_gev"),
             (
                 "[grid]\nsqrt_s_gev = 3.0\nprocesses = [\"ee\"]\n",
                 "grid.processes",
