@@ -16,7 +16,7 @@ pub const MIN_EFFICIENCY: f64 = 1e-6;
 
 /// The largest event count taken: 2⁵³, beyond which a double no longer holds every whole
 /// number.
-pub const MAX_COUNT: f64 = 9_007_199_254_740_992.0;
+pub const MAX_EVENTS: f64 = 9_007_199_254_740_992.0;
 
 /// A number as a person would write it back in a message: to 12 significant digits (no
 /// 0.052000000000000005 from arithmetic), plain where that is short, with an exponent for
@@ -33,7 +33,7 @@ pub fn shown(v: f64) -> String {
 
 /// A parameter outside its allowed range.
 #[derive(Debug, Error, Clone, PartialEq)]
-#[error("{name} = {} is not allowed; allowed: {allowed}", shown(*value))]
+#[error("{name} = {}", self.verdict())]
 pub struct ParamError {
     pub name: &'static str,
     pub value: f64,
@@ -56,6 +56,16 @@ impl ParamError {
         } else {
             Err(Self::new(name, value, format!("{lo} < {name} < {hi}")))
         }
+    }
+
+    /// "`value` is not allowed; allowed: `allowed`", for messages that name the parameter
+    /// their own way (a flag, a card key, a file column).
+    pub fn verdict(&self) -> String {
+        format!(
+            "{} is not allowed; allowed: {}",
+            shown(self.value),
+            self.allowed
+        )
     }
 
     /// Ok when 0 < `value` ≤ [`MAX_SQRT_S_GEV`]: a centre-of-mass energy.

@@ -56,4 +56,4 @@ pub mod scan;
 pub mod table;
 pub mod vp;
 
-pub use error::{MAX_COUNT, MAX_SQRT_S_GEV, MIN_EFFICIENCY, ParamError, shown};
+pub use error::{MAX_EVENTS, MAX_SQRT_S_GEV, MIN_EFFICIENCY, ParamError, shown};

@@ -198,6 +198,14 @@ fn lumi(args: &[&str]) -> (Option<i32>, String, String) {
     )
 }
 
+/// `radnorm lumi --card <card_text written to a temporary file> args…`.
+fn lumi_with_card(card_text: &str, args: &[&str]) -> (Option<i32>, String, String) {
+    let dir = tempfile::tempdir().unwrap();
+    let card = dir.path().join("lumi.toml");
+    fs::write(&card, card_text).unwrap();
+    lumi(&[&["--card", card.to_str().unwrap()], args].concat())
+}
+
 /// The acceptance of the examples, with the `(flag, value)` pairs of `with` replacing or
 /// adding to it.
 fn flags<'a>(process: &'a str, sqrt_s: &'a str, with: &[&'a str]) -> Vec<&'a str> {
@@ -306,15 +314,11 @@ fn negative_values_are_named_with_their_range() {
 
 #[test]
 fn card_errors_name_only_flags_that_exist() {
-    let dir = tempfile::tempdir().unwrap();
-    let card = dir.path().join("lumi.toml");
     // An uncertainty is a card key without a flag.
-    fs::write(
-        &card,
-        CARD.replace("theta_edge_deg = 0.01", "theta_edge_deg = -0.01"),
-    )
-    .unwrap();
-    let (code, err, _) = lumi(&["--card", card.to_str().unwrap(), "--sqrt-s", "10"]);
+    let (code, err, _) = lumi_with_card(
+        &CARD.replace("theta_edge_deg = 0.01", "theta_edge_deg = -0.01"),
+        &["--sqrt-s", "10"],
+    );
     assert_eq!(code, Some(2), "{err}");
     assert!(
         err.contains("uncertainty.theta_edge_deg")
@@ -323,8 +327,7 @@ fn card_errors_name_only_flags_that_exist() {
         "{err}"
     );
     // The card's energy is set on the command line by --sqrt-s (there is no --sqrt-s-gev).
-    fs::write(&card, format!("sqrt_s_gev = -10.0\n{CARD}")).unwrap();
-    let (code, err, _) = lumi(&["--card", card.to_str().unwrap()]);
+    let (code, err, _) = lumi_with_card(&format!("sqrt_s_gev = -10.0\n{CARD}"), &[]);
     assert_eq!(code, Some(2), "{err}");
     assert!(
         err.contains("sqrt_s_gev") && err.contains("--sqrt-s)") && !err.contains("--sqrt-s-gev"),
@@ -413,14 +416,10 @@ fn energies_outside_the_model_are_named_by_their_flag() {
 fn a_beam_energy_uncertainty_beyond_one_percent_is_refused() {
     // uncertainty.sqrt_s_gev = 5.3 GeV at 5.2 GeV had moved σ_vis to zero energy and given a
     // beam-energy term of −47311 nb against σ_vis = 34.8 nb.
-    let dir = tempfile::tempdir().unwrap();
-    let card = dir.path().join("lumi.toml");
-    fs::write(
-        &card,
-        CARD.replace("sqrt_s_gev = 0.005", "sqrt_s_gev = 5.3"),
-    )
-    .unwrap();
-    let (code, err, _) = lumi(&["--card", card.to_str().unwrap(), "--sqrt-s", "5.2"]);
+    let (code, err, _) = lumi_with_card(
+        &CARD.replace("sqrt_s_gev = 0.005", "sqrt_s_gev = 5.3"),
+        &["--sqrt-s", "5.2"],
+    );
     assert_eq!(code, Some(2), "{err}");
     assert!(
         err.contains("uncertainty.sqrt_s_gev = 5.3") && err.contains("0.052 GeV"),

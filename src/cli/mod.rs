@@ -98,11 +98,7 @@ pub fn parse_energy_grid(flag: &str, text: &str) -> Result<Grid> {
     let grid = Grid::parse(text).with_context(|| format!("{flag} {text}"))?;
     for &e in grid.points() {
         if let Err(e) = ParamError::check_sqrt_s("sqrt_s", e) {
-            return Err(anyhow!(
-                "{flag} {text}: {} is not allowed; allowed: {}",
-                shown(e.value),
-                e.allowed
-            ));
+            return Err(anyhow!("{flag} {text}: {}", e.verdict()));
         }
     }
     Ok(grid)

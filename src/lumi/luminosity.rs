@@ -59,6 +59,10 @@ impl Prediction {
     }
 }
 
+/// The largest beam-energy uncertainty taken, relative to √s: machines know their energy
+/// to 10⁻⁴–10⁻³ (from memory); at √s itself the budget's σ_vis(√s − δ) would be at zero energy.
+const MAX_ENERGY_UNC_REL: f64 = 0.01;
+
 /// σ_vis and its budget at √s. `vp_variations` are named VP models with one part of the
 /// hadronic Π at +1σ (empty without hadronic VP); each becomes a source `vp_<name>`.
 ///
@@ -72,11 +76,8 @@ impl Prediction {
 /// # Errors
 /// An energy at or below the channel's threshold ([`VisibleError::BelowThreshold`]: σ_vis
 /// is 0 there, no luminosity follows from it); a variation that leaves the valid range (an
-/// edge moved past 0° or 180°, …).
-/// The largest beam-energy uncertainty taken, relative to √s: machines know their energy
-/// to 10⁻⁴–10⁻³ (from memory); at √s itself the budget's σ_vis(√s − δ) would be at zero energy.
-const MAX_ENERGY_UNC_REL: f64 = 0.01;
-
+/// edge moved past 0° or 180°, …); a beam-energy uncertainty above 1% of √s
+/// ([`VisibleError::EnergyUncertaintyTooLarge`]).
 pub fn predict<'a>(
     visible: &Visible<'a>,
     vp: Option<&'a dyn Polarisation>,
@@ -129,10 +130,12 @@ pub fn predict<'a>(
         });
     }
     let de = unc.sqrt_s_gev;
-    if de > MAX_ENERGY_UNC_REL * sqrt_s_gev {
+    let max_gev = MAX_ENERGY_UNC_REL * sqrt_s_gev;
+    if de > max_gev {
         return Err(VisibleError::EnergyUncertaintyTooLarge {
             unc_gev: de,
             sqrt_s_gev,
+            max_gev,
         });
     }
     let energy = if de > 0.0 {
@@ -326,11 +329,7 @@ pub fn parse_counts(file: &str, text: &str) -> Result<Vec<Run>, CountsError> {
         }
         let sqrt_s_gev = real(1)?;
         if let Err(e) = ParamError::check_sqrt_s("sqrt_s_gev", sqrt_s_gev) {
-            return Err(err(
-                line,
-                "sqrt_s_gev",
-                format!("{} is not allowed; allowed: {}", shown(e.value), e.allowed),
-            ));
+            return Err(err(line, "sqrt_s_gev", e.verdict()));
         }
         let (n, n_bkg) = (count(2)?, count(3)?);
         if n_bkg > n {

@@ -146,9 +146,13 @@ pub enum VisibleError {
     #[error(
         "uncertainty.sqrt_s_gev = {} is not allowed at sqrt_s_gev = {sqrt_s_gev}; allowed: ≤ 1% of sqrt_s ({} GeV): an uncertainty of the beam energy, not a range",
         shown(*unc_gev),
-        shown(0.01 * sqrt_s_gev)
+        shown(*max_gev)
     )]
-    EnergyUncertaintyTooLarge { unc_gev: f64, sqrt_s_gev: f64 },
+    EnergyUncertaintyTooLarge {
+        unc_gev: f64,
+        sqrt_s_gev: f64,
+        max_gev: f64,
+    },
 }
 
 impl VisibleError {

@@ -22,6 +22,24 @@ pub use fermion_pair::FermionPair;
 pub use hadrons::{ConstantR, Hadrons, MAX_R, RRatio};
 pub use z_exchange::{WidthScheme, ZExchange};
 
+/// Test aid: σ over bins 10⁻⁴ wide across the angle (`closed(lo, hi)`) against adaptive
+/// Gauss–Kronrod at 1e-15 of a published `differential(c)`. Tolerance 32 ulp: a few
+/// roundings on either side (seen: ≤ 3e-15); a difference of two antiderivative values lost
+/// 2e-13…4e-12 on these bins (tests/born_reference.rs checks the same bins against mpmath).
+#[cfg(test)]
+pub(crate) fn assert_narrow_bins_keep_their_digits(
+    closed: impl Fn(f64, f64) -> f64,
+    differential: impl Fn(f64) -> f64,
+) {
+    use crate::numeric::{Tolerance, integrate};
+    for lo in [-0.9, -0.5, 0.0, 0.3, 0.9, 0.999] {
+        let hi = lo + 1e-4;
+        let q = integrate(&differential, lo, hi, &[], Tolerance::relative(1e-15));
+        let cf = closed(lo, hi);
+        assert!((cf / q.value - 1.0).abs() < 32.0 * f64::EPSILON, "lo={lo}");
+    }
+}
+
 /// A structure in σ(s) that integrators over s must split at.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Feature {

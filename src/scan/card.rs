@@ -563,22 +563,16 @@ pub fn born_by_name(
     name: &str,
     r_ratio: Option<f64>,
 ) -> Result<Box<dyn CrossSection + Send>, ScanError> {
-    if r_ratio.is_some() && matches!(name, "mumu" | "tautau") {
-        return Err(card_err(
+    match name {
+        "mumu" | "tautau" if r_ratio.is_some() => Err(card_err(
             "process.r_ratio",
             "only for final_state = \"hadrons\"",
-        ));
-    }
-    match name {
+        )),
         "mumu" => Ok(Box::new(FermionPair::muon())),
         "tautau" => Ok(Box::new(FermionPair::tau())),
         "hadrons" => {
-            let r = ConstantR::new("r_ratio", r_ratio.unwrap_or(1.0)).map_err(|e| {
-                card_err(
-                    "process.r_ratio",
-                    format!("{}; allowed: {}", shown(e.value), e.allowed),
-                )
-            })?;
+            let r = ConstantR::new("r_ratio", r_ratio.unwrap_or(1.0))
+                .map_err(|e| card_err("process.r_ratio", e.verdict()))?;
             Ok(Box::new(Hadrons::new(r)))
         }
         other => Err(card_err(
@@ -588,10 +582,10 @@ pub fn born_by_name(
     }
 }
 
-/// `value` for `key` when in [lo, hi] (inclusive as flagged), else a card error.
 /// The narrowest template resonance, GeV.
 const MIN_WIDTH_GEV: f64 = 1e-6;
 
+/// `value` for `key` when in [lo, hi] (inclusive as flagged), else a card error.
 fn in_range(key: &str, value: f64, lo: f64, hi: f64, lo_open: bool) -> Result<f64, ScanError> {
     let ok = value.is_finite() && value <= hi && if lo_open { value > lo } else { value >= lo };
     if ok {

@@ -16,7 +16,7 @@
 
 use super::ScanError;
 use crate::isr::max_spread_mev;
-use crate::{MAX_COUNT, MIN_EFFICIENCY, ParamError, shown};
+use crate::{MAX_EVENTS, MIN_EFFICIENCY, ParamError, shown};
 use std::path::Path;
 
 /// How the luminosity of a point is given.
@@ -159,7 +159,7 @@ pub fn parse_scan(text: &str, file: &str) -> Result<Vec<ScanPoint>, ScanError> {
         };
         let counts = |n: &str, b: &str, e: &str| -> Result<(f64, f64, f64), ScanError> {
             let (nv, bv, ev) = (value(n)?, value(b)?, value(e)?);
-            if !(0.0..=MAX_COUNT).contains(&nv) || nv.fract() != 0.0 {
+            if !(0.0..=MAX_EVENTS).contains(&nv) || nv.fract() != 0.0 {
                 return Err(bad(
                     n,
                     format!("{}; allowed: a whole number from 0 to 2^53", shown(nv)),
@@ -184,10 +184,7 @@ pub fn parse_scan(text: &str, file: &str) -> Result<Vec<ScanPoint>, ScanError> {
         };
         let sqrt_s_gev = value("sqrt_s_gev")?;
         if let Err(e) = ParamError::check_sqrt_s("sqrt_s_gev", sqrt_s_gev) {
-            return Err(bad(
-                "sqrt_s_gev",
-                format!("{}; allowed: {}", shown(e.value), e.allowed),
-            ));
+            return Err(bad("sqrt_s_gev", e.verdict()));
         }
         if let Some(prev) = points.last()
             && sqrt_s_gev <= prev.sqrt_s_gev

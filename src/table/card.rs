@@ -182,10 +182,7 @@ fn energies(raw: &RawEnergies) -> Result<Vec<f64>, TablePlanError> {
     }
     for &e in &points {
         if let Err(e) = ParamError::check_sqrt_s("sqrt_s_gev", e) {
-            return Err(err(
-                KEY,
-                format!("{}; allowed: {}", shown(e.value), e.allowed),
-            ));
+            return Err(err(KEY, e.verdict()));
         }
     }
     let mut sorted = points.clone();
@@ -282,12 +279,7 @@ fn cut_set(i: usize, raw: &RawCut) -> Result<CutSet, TablePlanError> {
     let key = |k: &str| format!("cut[{i}].{k}");
     let mut cuts = Cuts::NONE;
     let mut words = Vec::new();
-    let param = |k: &str, e: crate::ParamError| {
-        err(
-            &key(k),
-            format!("{}; allowed: {}", shown(e.value), e.allowed),
-        )
-    };
+    let param = |k: &str, e: crate::ParamError| err(&key(k), e.verdict());
     if let Some(x) = raw.x_max {
         cuts = cuts.with_x_max(x).map_err(|e| param("x_max", e))?;
         words.push(format!("x_max = {x}"));
@@ -438,10 +430,7 @@ impl TryFrom<RawTableCard> for TablePlan {
         if let Some(r) = raw.grid.r_ratio
             && let Err(e) = ConstantR::new("r_ratio", r)
         {
-            return Err(err(
-                "grid.r_ratio",
-                format!("{}; allowed: {}", shown(e.value), e.allowed),
-            ));
+            return Err(err("grid.r_ratio", e.verdict()));
         }
         let names = raw
             .grid

@@ -92,3 +92,18 @@ cmax = mp.cos(mp.radians(40))
 for sqrt_s in ["10.58", "50.0", "91.2"]:
     s = mp.mpf(sqrt_s) ** 2
     out(f"bhabha_z_{sqrt_s}", mp.quad(lambda c: bhabha_z(s, c), [-cmax, 0, cmax]))
+
+
+# Narrow cos(theta) bins (the edges as the Rust tests compute them in binary64; mp.mpf takes a
+# float exactly): tau pairs with gamma+Z backward of the Z, where the closed form's
+# antiderivative difference once lost 3.7e-12, and Bhabha / gamma-gamma bins 1e-4 wide.
+def narrow(key, f, lo, hi):
+    out(key, mp.quad(f, [mp.mpf(lo), mp.mpf(hi)]))
+
+
+for i, (sqrt_s, lo) in enumerate([(111.8079648618288, -0.913064457293868), (124.0, -0.95)]):
+    s = mp.mpf(sqrt_s * sqrt_s)
+    narrow(f"narrow_tautau_z_{i}", lambda c: dsig_ff(s, c, m_tau, True), lo, lo + 1e-3)
+for i, lo in enumerate([-0.9, -0.5, 0.0, 0.3, 0.9, 0.999]):
+    narrow(f"narrow_bhabha_{i}", lambda c: bhabha(mp.mpf(25.0), c), lo, lo + 1e-4)
+    narrow(f"narrow_gg_{i}", lambda c: gg(mp.mpf(9.0), c), lo, lo + 1e-4)
