@@ -88,6 +88,7 @@ fn narrow_bins_match_mpmath() {
     };
     let refs = parse_key_values(&text);
     const NARROW: f64 = 2e-13;
+    let check = |key: String, got: f64| assert_rel(&key, got, refs[&key], NARROW);
     let tau = FermionPair::tau().with_z(ZExchange::standard(WidthScheme::Running));
     for (i, (sqrt_s, lo)) in [
         (111.807_964_861_828_8, -0.913_064_457_293_868),
@@ -96,26 +97,19 @@ fn narrow_bins_match_mpmath() {
     .into_iter()
     .enumerate()
     {
-        let key = format!("narrow_tautau_z_{i}");
-        let got = tau.sigma_in_cos_nb(sqrt_s * sqrt_s, lo, lo + 1e-3);
-        assert_rel(&key, got, refs[&key], NARROW);
+        check(
+            format!("narrow_tautau_z_{i}"),
+            tau.sigma_in_cos_nb(sqrt_s * sqrt_s, lo, lo + 1e-3),
+        );
     }
     let (bhabha, gg) = (Bhabha::new(CosRange::FULL), Diphoton::new(CosRange::FULL));
     for (i, lo) in [-0.9, -0.5, 0.0, 0.3, 0.9, 0.999].into_iter().enumerate() {
-        let key = format!("narrow_bhabha_{i}");
-        assert_rel(
-            &key,
-            bhabha.sigma_in_cos_nb(25.0, lo, lo + 1e-4),
-            refs[&key],
-            NARROW,
+        let hi = lo + 1e-4;
+        check(
+            format!("narrow_bhabha_{i}"),
+            bhabha.sigma_in_cos_nb(25.0, lo, hi),
         );
-        let key = format!("narrow_gg_{i}");
-        assert_rel(
-            &key,
-            gg.sigma_in_cos_nb(9.0, lo, lo + 1e-4),
-            refs[&key],
-            NARROW,
-        );
+        check(format!("narrow_gg_{i}"), gg.sigma_in_cos_nb(9.0, lo, hi));
     }
 }
 
